@@ -1,0 +1,43 @@
+# sinter: the two everyday commands are `make demo` and `make test`.
+GO ?= go
+EXAMPLES := $(wildcard examples/*.yaml)
+
+.PHONY: all build demo test fuzz bench install clean
+
+all: build
+
+build:
+	$(GO) build -o bin/sinter ./cmd/sinter
+
+# Render every example patch into out/<name>.
+demo: build
+	@for p in $(EXAMPLES); do \
+		n=$$(basename $$p .yaml); \
+		echo "== $$p"; \
+		./bin/sinter render $$p -o out/$$n || exit 1; \
+		./bin/sinter verify out/$$n || exit 1; \
+	done
+
+# Every test, then a short bounded run of each fuzz target.
+test:
+	$(GO) vet ./...
+	$(GO) test ./...
+	@$(MAKE) --no-print-directory fuzz FUZZTIME=3s
+
+FUZZTIME ?= 60s
+fuzz:
+	@set -e; for pkg in $$($(GO) list ./...); do \
+		for f in $$($(GO) test -list 'Fuzz.*' $$pkg | grep '^Fuzz' || true); do \
+			echo "fuzz $$pkg $$f ($(FUZZTIME))"; \
+			$(GO) test -run '^$$' -fuzz "^$$f$$" -fuzztime $(FUZZTIME) $$pkg > /tmp/sinter-fuzz.log 2>&1 || { cat /tmp/sinter-fuzz.log; exit 1; }; \
+		done; \
+	done
+
+bench:
+	$(GO) test -run '^$$' -bench . -benchmem ./synth/...
+
+install:
+	$(GO) install ./cmd/sinter
+
+clean:
+	rm -rf bin out

@@ -1,0 +1,238 @@
+// Command sinter compiles a patch of sine partials into a sampler-ready
+// sample set: one WAV file per root key and velocity layer, an SFZ mapping
+// and a manifest. Run "sinter help" for usage.
+package main
+
+import (
+	"context"
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"os"
+	"os/signal"
+	"runtime"
+	"strings"
+	"syscall"
+
+	"sinter/patch"
+	"sinter/synth/sampleset"
+)
+
+// version is the release of sinter, recorded in every manifest.
+var version = "0.1.0"
+
+// Exit statuses.
+const (
+	exitOK      = 0
+	exitFailure = 1 // rendering or writing failed
+	exitUsage   = 2 // bad command line or bad patch
+)
+
+const usage = `sinter compiles a patch of sine partials into a sampler-ready sample set.
+
+Usage:
+  sinter render PATCH.yaml [-o DIR] [--keys LIST] [--jobs N] [--quiet]
+      Render every root key and velocity layer into DIR (default: the
+      patch's output.dir): WAV files, an SFZ mapping and manifest.json.
+  sinter check PATCH.yaml [--keys LIST]
+      Validate the patch and print the plan without rendering.
+  sinter verify DIR
+      Read a rendered set back and check every file against its manifest.
+  sinter help
+      Print this text.
+  sinter --version
+      Print the version.
+
+LIST is a comma-separated list of keys and ranges: C4,E4 or 60-72 or C4-C5.
+
+Exit status: 0 success, 1 rendering or writing failed, 2 usage or patch error.
+`
+
+func main() {
+	os.Exit(run(os.Args[1:], os.Stdout, os.Stderr))
+}
+
+func run(args []string, stdout, stderr io.Writer) int {
+	if len(args) == 0 {
+		fmt.Fprint(stderr, usage)
+		return exitUsage
+	}
+	switch args[0] {
+	case "help", "-h", "-help", "--help":
+		fmt.Fprint(stdout, usage)
+		return exitOK
+	case "version", "-version", "--version":
+		fmt.Fprintf(stdout, "sinter %s\n", version)
+		return exitOK
+	case "render":
+		return render(args[1:], stdout, stderr)
+	case "check":
+		return check(args[1:], stdout, stderr)
+	case "verify":
+		return verify(args[1:], stdout, stderr)
+	}
+	fmt.Fprintf(stderr, "sinter: unknown command %q; run \"sinter help\" for usage\n", args[0])
+	return exitUsage
+}
+
+// parseArgs parses flags that may come before or after the one positional
+// argument, as in "sinter render patch.yaml -o out".
+func parseArgs(fs *flag.FlagSet, args []string, stderr io.Writer) (string, bool) {
+	fs.SetOutput(io.Discard)
+	var positional []string
+	for {
+		if err := fs.Parse(args); err != nil {
+			fmt.Fprintf(stderr, "sinter %s: %v\n", fs.Name(), err)
+			return "", false
+		}
+		if fs.NArg() == 0 {
+			break
+		}
+		positional = append(positional, fs.Arg(0))
+		args = fs.Args()[1:]
+	}
+	if len(positional) != 1 {
+		fmt.Fprintf(stderr, "sinter %s: expected one argument, got %d; run \"sinter help\" for usage\n", fs.Name(), len(positional))
+		return "", false
+	}
+	return positional[0], true
+}
+
+// parseKeys reads a --keys list such as "C4,E4", "60-72" or "C-1-C0".
+func parseKeys(list string) ([]int, error) {
+	var keys []int
+	for _, item := range strings.Split(list, ",") {
+		item = strings.TrimSpace(item)
+		if k, err := patch.ParseNote(item); err == nil {
+			keys = append(keys, k)
+			continue
+		}
+		found := false
+		for i := 1; i < len(item) && !found; i++ {
+			if item[i] != '-' {
+				continue
+			}
+			lo, err1 := patch.ParseNote(item[:i])
+			hi, err2 := patch.ParseNote(item[i+1:])
+			if err1 == nil && err2 == nil && lo <= hi {
+				for k := lo; k <= hi; k++ {
+					keys = append(keys, k)
+				}
+				found = true
+			}
+		}
+		if !found {
+			return nil, fmt.Errorf("--keys: %q is not a key or a rising range of keys (C4, 60, 60-72, C4-C5)", item)
+		}
+	}
+	return keys, nil
+}
+
+// loadPlan loads and expands a patch, printing its errors.
+func loadPlan(path, keyList, outDir string, stderr io.Writer) (*patch.Plan, *patch.Patch, bool) {
+	var keys []int
+	if keyList != "" {
+		var err error
+		if keys, err = parseKeys(keyList); err != nil {
+			fmt.Fprintf(stderr, "sinter: %v\n", err)
+			return nil, nil, false
+		}
+	}
+	p, err := patch.Load(path)
+	if err != nil {
+		fmt.Fprintln(stderr, err)
+		return nil, nil, false
+	}
+	if outDir != "" {
+		p.OutputDir = outDir
+	}
+	plan, err := p.Expand(patch.ExpandOptions{Keys: keys})
+	if err != nil {
+		fmt.Fprintln(stderr, err)
+		return nil, nil, false
+	}
+	return plan, p, true
+}
+
+func render(args []string, stdout, stderr io.Writer) int {
+	fs := flag.NewFlagSet("render", flag.ContinueOnError)
+	outDir := fs.String("o", "", "output folder, overriding the patch's output.dir")
+	keyList := fs.String("keys", "", "render only these keys")
+	jobs := fs.Int("jobs", runtime.NumCPU(), "notes rendered at once")
+	quiet := fs.Bool("quiet", false, "print nothing but errors")
+	path, ok := parseArgs(fs, args, stderr)
+	if !ok {
+		return exitUsage
+	}
+	if *jobs < 1 {
+		fmt.Fprintf(stderr, "sinter render: --jobs must be 1 or more, got %d\n", *jobs)
+		return exitUsage
+	}
+	plan, _, ok := loadPlan(path, *keyList, *outDir, stderr)
+	if !ok {
+		return exitUsage
+	}
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	defer stop()
+	opts := sampleset.Options{Jobs: *jobs, Version: version}
+	if !*quiet {
+		opts.Progress = progressPrinter(stderr)
+	}
+	res, err := sampleset.Build(ctx, plan, opts)
+	if err != nil {
+		if errors.Is(err, context.Canceled) {
+			fmt.Fprintln(stderr, "sinter render: interrupted; the previous set, if any, is unchanged")
+		} else {
+			fmt.Fprintf(stderr, "sinter render: %v\n", err)
+		}
+		return exitFailure
+	}
+	for _, w := range res.Warnings {
+		fmt.Fprintf(stderr, "sinter render: warning: %s\n", w)
+	}
+	if !*quiet {
+		fmt.Fprintf(stdout, "rendered %d files into %s (gain %+.2f dB)\n", len(res.Manifest.Files), res.Dir, res.Manifest.GainDB)
+	}
+	return exitOK
+}
+
+// progressPrinter redraws one line on a terminal and prints a line per
+// file elsewhere, so CI logs stay readable.
+func progressPrinter(w io.Writer) func(done, total int, file string) {
+	if f, ok := w.(*os.File); ok {
+		if info, err := f.Stat(); err == nil && info.Mode()&os.ModeCharDevice != 0 {
+			return func(done, total int, file string) {
+				fmt.Fprintf(w, "\r\x1b[K%d/%d %s", done, total, file)
+				if done == total {
+					fmt.Fprintln(w)
+				}
+			}
+		}
+	}
+	return func(done, total int, file string) {
+		fmt.Fprintf(w, "%d/%d %s\n", done, total, file)
+	}
+}
+
+func verify(args []string, stdout, stderr io.Writer) int {
+	fs := flag.NewFlagSet("verify", flag.ContinueOnError)
+	dir, ok := parseArgs(fs, args, stderr)
+	if !ok {
+		return exitUsage
+	}
+	problems, err := sampleset.Verify(dir)
+	if err != nil {
+		fmt.Fprintf(stderr, "sinter verify: %v\n", err)
+		return exitFailure
+	}
+	for _, p := range problems {
+		fmt.Fprintf(stderr, "%s\n", p)
+	}
+	if len(problems) > 0 {
+		fmt.Fprintf(stderr, "sinter verify: %d problems in %s\n", len(problems), dir)
+		return exitFailure
+	}
+	fmt.Fprintf(stdout, "%s: every file matches the manifest\n", dir)
+	return exitOK
+}

@@ -1,0 +1,74 @@
+package patch
+
+import (
+	"fmt"
+	"strings"
+)
+
+// Error is a problem in a patch, located at a line and column of its file.
+type Error struct {
+	File   string // path of the patch file as given
+	Line   int    // 1-based; 0 when the problem has no single place
+	Column int    // 1-based
+	Path   string // the key's path inside the patch, such as "partials[1].envelope.decay"
+	Msg    string // what was expected and what was found
+}
+
+func (e *Error) Error() string {
+	var b strings.Builder
+	b.WriteString(e.File)
+	if e.Line > 0 {
+		fmt.Fprintf(&b, ":%d:%d", e.Line, e.Column)
+	}
+	b.WriteString(": ")
+	if e.Path != "" {
+		b.WriteString(e.Path)
+		b.WriteString(": ")
+	}
+	b.WriteString(e.Msg)
+	return b.String()
+}
+
+// ErrorList is every problem found in one patch, in file order.
+type ErrorList []*Error
+
+func (l ErrorList) Error() string {
+	lines := make([]string, len(l))
+	for i, e := range l {
+		lines[i] = e.Error()
+	}
+	return strings.Join(lines, "\n")
+}
+
+// nearest returns the candidate closest to word by edit distance, if it is
+// close enough to be a likely misspelling.
+func nearest(word string, candidates []string) (string, bool) {
+	best, bestDist := "", len(word)/2+2
+	for _, c := range candidates {
+		if d := editDistance(word, c); d < bestDist {
+			best, bestDist = c, d
+		}
+	}
+	return best, best != ""
+}
+
+// editDistance is the Levenshtein distance between a and b.
+func editDistance(a, b string) int {
+	prev := make([]int, len(b)+1)
+	cur := make([]int, len(b)+1)
+	for j := range prev {
+		prev[j] = j
+	}
+	for i := 1; i <= len(a); i++ {
+		cur[0] = i
+		for j := 1; j <= len(b); j++ {
+			cost := 1
+			if a[i-1] == b[j-1] {
+				cost = 0
+			}
+			cur[j] = min(prev[j]+1, cur[j-1]+1, prev[j-1]+cost)
+		}
+		prev, cur = cur, prev
+	}
+	return prev[len(b)]
+}

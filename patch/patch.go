@@ -1,0 +1,358 @@
+// Package patch reads sinter patch files: YAML documents that describe a
+// sample set as groups of sine partials. Load parses and validates a patch,
+// reporting every problem with its file, line and column; Patch.Expand turns
+// it into a Plan, one entry per output file with its partials fully resolved.
+package patch
+
+import (
+	"bytes"
+	"crypto/sha256"
+	"fmt"
+	"os"
+	"path/filepath"
+	"regexp"
+	"slices"
+	"strconv"
+	"strings"
+
+	"gopkg.in/yaml.v3"
+)
+
+// Patch is a parsed and validated patch.
+type Patch struct {
+	File       string   // path the patch was read from
+	SHA256     [32]byte // hash of the file's bytes
+	Name       string
+	SampleRate int
+	BitDepth   int
+	Channels   int
+	A4         float64 // tuning reference in Hz
+	Keys       []int   // root keys as MIDI notes, ascending, no repeats
+	Velocities []int   // MIDI velocity of each layer, ascending, no repeats
+	Hold       float64 // seconds from note-on to note-off
+	Tail       float64 // seconds rendered after note-off
+	BandLimit  float64 // highest partial frequency, as a fraction of SampleRate
+	BandFade   float64 // width of the fade below the limit, as a fraction of the limit
+	Normalize  Normalize
+	Groups     []Group
+	OutputDir  string // resolved against the patch file's folder
+}
+
+// Normalize says how the set is levelled.
+type Normalize struct {
+	Off      bool    // no gain: samples are written as rendered
+	PeakDBFS float64 // the loudest sample of the set lands here
+}
+
+// Group is one entry of the patch's partials list: a single partial at a
+// frequency ratio, or a series of harmonics.
+type Group struct {
+	Line, Column int
+	Series       bool
+	Count        int     // series: number of harmonics
+	First        int     // series: harmonic number of the first
+	Step         int     // series: distance between harmonic numbers
+	Ratio        float64 // single partial: frequency over the fundamental
+	Amplitude    Value
+	Phase        Value // degrees
+	Envelope     EnvelopeSpec
+}
+
+// EnvelopeSpec is an ADSR envelope as written: times in seconds, sustain a
+// level from 0 to 1, each a number or an expression.
+type EnvelopeSpec struct {
+	Attack, Decay, Sustain, Release Value
+}
+
+// Limits on what a patch may ask for; they keep a typing slip from asking
+// for hours of audio or a million partials.
+const (
+	MinSampleRate  = 8000
+	MaxSampleRate  = 384000
+	MaxSeconds     = 600 // hold + tail of one file
+	MaxSeries      = 4096
+	maxPatchBytes  = 4 << 20
+	defaultHold    = 2.0
+	defaultTail    = 1.0
+	defaultBandLim = 0.45
+	defaultFade    = 0.1
+)
+
+var namePattern = regexp.MustCompile(`^[a-z0-9][a-z0-9._-]*$`)
+
+var topKeys = []string{"name", "sample_rate", "bit_depth", "channels", "tuning", "keys", "velocities",
+	"hold", "tail", "band_limit", "band_fade", "normalize", "envelope", "partials", "output"}
+
+// Load reads, parses and validates the patch at path. The error, if any, is
+// an ErrorList holding every problem found.
+func Load(path string) (*Patch, error) {
+	data, err := os.ReadFile(path)
+	if err != nil {
+		return nil, ErrorList{{File: path, Msg: fmt.Sprintf("cannot read the patch: %v", err)}}
+	}
+	return Parse(path, data)
+}
+
+// Parse parses and validates patch source; file names it in messages and
+// anchors relative output folders.
+func Parse(file string, data []byte) (*Patch, error) {
+	d := &decoder{file: file}
+	if len(data) > maxPatchBytes {
+		return nil, ErrorList{{File: file, Msg: fmt.Sprintf("the patch is %d bytes; patches are limited to %d", len(data), maxPatchBytes)}}
+	}
+	var doc yaml.Node
+	if err := yaml.Unmarshal(data, &doc); err != nil {
+		return nil, ErrorList{syntaxError(file, data, err)}
+	}
+	if doc.Kind == 0 || len(doc.Content) == 0 {
+		return nil, ErrorList{{File: file, Line: 1, Column: 1, Msg: "the patch is empty; it needs at least name and partials"}}
+	}
+	p := &Patch{File: file, SHA256: sha256.Sum256(data)}
+	d.patch(doc.Content[0], p)
+	if d.overBudget() {
+		return nil, ErrorList{{File: file, Line: 1, Column: 1, Msg: fmt.Sprintf("the patch expands to more than %d YAML nodes (aliases nested too deep?)", maxNodeVisits)}}
+	}
+	if len(d.errs) > 0 {
+		return nil, d.errs
+	}
+	return p, nil
+}
+
+var yamlLine = regexp.MustCompile(`^yaml: line (\d+): (.*)$`)
+
+// syntaxError turns a YAML parser error, which knows only the line, into an
+// Error; the column is the first tab on that line when a tab is the
+// complaint, else the line's first non-blank character.
+func syntaxError(file string, data []byte, err error) *Error {
+	m := yamlLine.FindStringSubmatch(err.Error())
+	if m == nil {
+		return &Error{File: file, Line: 1, Column: 1, Msg: "not valid YAML: " + strings.TrimPrefix(err.Error(), "yaml: ")}
+	}
+	line, _ := strconv.Atoi(m[1])
+	col := 1
+	if lines := bytes.Split(data, []byte("\n")); line >= 1 && line <= len(lines) {
+		text := lines[line-1]
+		if i := bytes.IndexByte(text, '\t'); i >= 0 && strings.Contains(m[2], "tab") {
+			col = i + 1
+		} else if trimmed := bytes.TrimLeft(text, " "); len(trimmed) > 0 {
+			col = len(text) - len(trimmed) + 1
+		}
+	}
+	return &Error{File: file, Line: line, Column: col, Msg: "not valid YAML: " + m[2]}
+}
+
+func (d *decoder) patch(root *yaml.Node, p *Patch) {
+	p.SampleRate, p.BitDepth, p.Channels, p.A4 = 48000, 24, 1, 440
+	p.Velocities = []int{100}
+	p.Hold, p.Tail, p.BandLimit, p.BandFade = defaultHold, defaultTail, defaultBandLim, defaultFade
+	p.Normalize.PeakDBFS = -1
+	var keysNode, partialsNode, envelopeNode *yaml.Node
+	outputDir := ""
+	d.fields(root, "", topKeys, func(key string, v *yaml.Node, path string) {
+		switch key {
+		case "name":
+			if s, ok := d.text(v, path); ok {
+				if !namePattern.MatchString(s) {
+					d.errorf(d.resolve(v), path, "name %q must start with a-z or 0-9 and hold only a-z, 0-9, '.', '_' and '-' (it becomes part of file names)", clip(s))
+				}
+				p.Name = s
+			}
+		case "sample_rate":
+			p.SampleRate, _ = d.integer(v, path, MinSampleRate, MaxSampleRate)
+		case "bit_depth":
+			if b, ok := d.integer(v, path, 0, 64); ok && b != 16 && b != 24 && b != 32 {
+				d.errorf(d.resolve(v), path, "bit depth %d is not supported: expected 16 or 24 (PCM) or 32 (float)", b)
+			} else {
+				p.BitDepth = b
+			}
+		case "channels":
+			p.Channels, _ = d.integer(v, path, 1, 2)
+		case "tuning":
+			d.fields(v, path, []string{"a4"}, func(_ string, v *yaml.Node, path string) {
+				p.A4, _ = d.ranged(v, path, 100, 1000, " Hz")
+			})
+		case "keys":
+			keysNode = v
+		case "velocities":
+			p.Velocities = d.velocities(v, path)
+		case "hold":
+			p.Hold, _ = d.ranged(v, path, 0, MaxSeconds, " s")
+		case "tail":
+			p.Tail, _ = d.ranged(v, path, 0, MaxSeconds, " s")
+		case "band_limit":
+			p.BandLimit, _ = d.ranged(v, path, 0.01, 0.5, "")
+		case "band_fade":
+			p.BandFade, _ = d.ranged(v, path, 0, 1, "")
+		case "normalize":
+			p.Normalize = d.normalize(v, path)
+		case "envelope":
+			envelopeNode = v
+		case "partials":
+			partialsNode = v
+		case "output":
+			d.fields(v, path, []string{"dir"}, func(_ string, v *yaml.Node, path string) {
+				outputDir, _ = d.text(v, path)
+			})
+		}
+	})
+	if p.Hold+p.Tail > MaxSeconds {
+		d.errorf(root, "hold", "hold + tail is %g s; a file may last at most %d s", p.Hold+p.Tail, MaxSeconds)
+	}
+	if p.Name == "" && !hasKey(root, "name") {
+		d.errorf(root, "name", "the patch needs a name (it becomes part of every file name)")
+	}
+	if keysNode == nil {
+		p.Keys = []int{60}
+	} else {
+		p.Keys = d.keys(keysNode, "keys")
+	}
+	defaults := defaultEnvelope()
+	if envelopeNode != nil {
+		defaults = d.envelope(envelopeNode, "envelope", defaults)
+	}
+	if partialsNode == nil {
+		d.errorf(root, "partials", "the patch needs a partials list: at least one group such as {harmonics: 8} or {ratio: 1}")
+	} else {
+		p.Groups = d.groups(partialsNode, "partials", defaults)
+	}
+	if outputDir == "" {
+		outputDir = filepath.Join("out", p.Name)
+	}
+	if filepath.IsAbs(outputDir) {
+		p.OutputDir = filepath.Clean(outputDir)
+	} else {
+		p.OutputDir = filepath.Join(filepath.Dir(p.File), outputDir)
+	}
+}
+
+func hasKey(n *yaml.Node, key string) bool {
+	if n.Kind != yaml.MappingNode {
+		return false
+	}
+	for i := 0; i+1 < len(n.Content); i += 2 {
+		if n.Content[i].Value == key {
+			return true
+		}
+	}
+	return false
+}
+
+// keys reads a key list ([C2, "F#3", 64]), a single key, or a range
+// {from, to, step}.
+func (d *decoder) keys(n *yaml.Node, path string) []int {
+	n = d.resolve(n)
+	var keys []int
+	if n.Kind == yaml.MappingNode {
+		from, to, step := -1, -1, 1
+		d.fields(n, path, []string{"from", "to", "step"}, func(key string, v *yaml.Node, path string) {
+			switch key {
+			case "from":
+				from, _ = d.note(v, path)
+			case "to":
+				to, _ = d.note(v, path)
+			case "step":
+				step, _ = d.integer(v, path, 1, 127)
+			}
+		})
+		switch {
+		case from < 0 || to < 0:
+			if !hasKey(n, "from") || !hasKey(n, "to") {
+				d.errorf(n, path, "a key range needs from and to, such as {from: C2, to: C6, step: 3}")
+			}
+			return nil
+		case to < from:
+			d.errorf(n, path, "the range runs backwards: to (%s) is below from (%s)", NoteName(to), NoteName(from))
+			return nil
+		case step < 1:
+			return nil
+		}
+		for k := from; k <= to; k += step {
+			keys = append(keys, k)
+		}
+		return keys
+	}
+	items := d.items(n)
+	if len(items) == 0 {
+		d.errorf(n, path, "the key list is empty")
+	}
+	at := map[int]*yaml.Node{}
+	for i, item := range items {
+		sub := fmt.Sprintf("%s[%d]", path, i)
+		k, ok := d.note(item, sub)
+		if !ok {
+			continue
+		}
+		if first, dup := at[k]; dup {
+			d.errorf(d.resolve(item), sub, "key %s is listed twice (first at line %d)", NoteName(k), first.Line)
+			continue
+		}
+		at[k] = d.resolve(item)
+		keys = append(keys, k)
+	}
+	slices.Sort(keys)
+	return keys
+}
+
+func (d *decoder) note(n *yaml.Node, path string) (int, bool) {
+	n = d.resolve(n)
+	if n.Kind != yaml.ScalarNode {
+		d.errorf(n, path, "expected a note such as C4 or a MIDI number, found %s", describe(n))
+		return 0, false
+	}
+	k, err := ParseNote(n.Value)
+	if err != nil {
+		d.errorf(n, path, "%v", err)
+		return 0, false
+	}
+	return k, true
+}
+
+func (d *decoder) velocities(n *yaml.Node, path string) []int {
+	var vels []int
+	items := d.items(n)
+	if len(items) == 0 {
+		d.errorf(d.resolve(n), path, "the velocity list is empty")
+	}
+	for i, item := range items {
+		sub := fmt.Sprintf("%s[%d]", path, i)
+		v, ok := d.integer(item, sub, 1, 127)
+		if !ok {
+			continue
+		}
+		if slices.Contains(vels, v) {
+			d.errorf(d.resolve(item), sub, "velocity %d is listed twice", v)
+			continue
+		}
+		vels = append(vels, v)
+	}
+	slices.Sort(vels)
+	return vels
+}
+
+var dbfsPattern = regexp.MustCompile(`^\s*([+-]?[0-9]*\.?[0-9]+(?:[eE][+-]?[0-9]+)?)\s*(dBFS|dB)?\s*$`)
+
+func (d *decoder) normalize(n *yaml.Node, path string) Normalize {
+	norm := Normalize{PeakDBFS: -1}
+	if r := d.resolve(n); r.Kind == yaml.ScalarNode {
+		if r.Value == "off" || r.Value == "false" {
+			return Normalize{Off: true}
+		}
+		d.errorf(r, path, "expected off or a mapping such as {peak: -1 dBFS}, found %s", describe(r))
+		return norm
+	}
+	d.fields(n, path, []string{"peak"}, func(_ string, v *yaml.Node, path string) {
+		r := d.resolve(v)
+		m := dbfsPattern.FindStringSubmatch(r.Value)
+		if r.Kind != yaml.ScalarNode || m == nil {
+			d.errorf(r, path, "expected a level such as -1 dBFS, found %s", describe(r))
+			return
+		}
+		db, _ := strconv.ParseFloat(m[1], 64)
+		if db > 0 || db < -60 {
+			d.errorf(r, path, "peak %g dBFS is out of range: expected -60..0 dBFS", db)
+			return
+		}
+		norm.PeakDBFS = db
+	})
+	return norm
+}

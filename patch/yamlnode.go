@@ -1,0 +1,216 @@
+package patch
+
+import (
+	"fmt"
+	"math"
+	"slices"
+	"strconv"
+	"strings"
+
+	"gopkg.in/yaml.v3"
+)
+
+// maxNodeVisits bounds the work of walking a patch, so that a document whose
+// aliases expand exponentially ("billion laughs") is refused instead of
+// exhausting memory or time.
+const maxNodeVisits = 200_000
+
+// decoder walks a YAML node tree, collecting every problem with its position
+// rather than stopping at the first.
+type decoder struct {
+	file   string
+	errs   ErrorList
+	visits int
+}
+
+func (d *decoder) errorf(n *yaml.Node, path, format string, args ...any) {
+	e := &Error{File: d.file, Path: path, Msg: fmt.Sprintf(format, args...)}
+	if n != nil {
+		e.Line, e.Column = n.Line, n.Column
+	}
+	d.errs = append(d.errs, e)
+}
+
+// resolve follows aliases to the node they name and counts the visit.
+func (d *decoder) resolve(n *yaml.Node) *yaml.Node {
+	for n != nil && n.Kind == yaml.AliasNode {
+		n = n.Alias
+	}
+	d.visits++
+	return n
+}
+
+func (d *decoder) overBudget() bool { return d.visits > maxNodeVisits }
+
+// fields walks the mapping n, calling handle for each key in known, and
+// reports keys that are unknown (with the nearest known name), repeated, or not
+// strings. Merge keys ("<<: *defaults") bring in the keys of the merged
+// mappings that n does not set itself, as YAML 1.1 merge keys do.
+func (d *decoder) fields(n *yaml.Node, path string, known []string, handle func(key string, v *yaml.Node, path string)) {
+	n = d.resolve(n)
+	if n.Kind != yaml.MappingNode {
+		d.errorf(n, path, "expected a mapping of keys (%s), found %s", strings.Join(known, ", "), describe(n))
+		return
+	}
+	seen := map[string]*yaml.Node{}
+	var merged []*yaml.Node
+	for i := 0; i+1 < len(n.Content); i += 2 {
+		k, v := d.resolve(n.Content[i]), n.Content[i+1]
+		if k.Kind != yaml.ScalarNode {
+			d.errorf(k, path, "keys must be plain names, found %s", describe(k))
+			continue
+		}
+		if k.Value == "<<" && k.Tag == "!!merge" {
+			merged = append(merged, v)
+			continue
+		}
+		sub := joinPath(path, k.Value)
+		if first, dup := seen[k.Value]; dup {
+			d.errorf(k, sub, "key %q is set twice (first at line %d)", k.Value, first.Line)
+			continue
+		}
+		seen[k.Value] = k
+		if !slices.Contains(known, k.Value) {
+			if guess, ok := nearest(k.Value, known); ok {
+				d.errorf(k, sub, "unknown key %q (did you mean %q?)", k.Value, guess)
+			} else {
+				d.errorf(k, sub, "unknown key %q; expected one of %s", k.Value, strings.Join(known, ", "))
+			}
+			continue
+		}
+		handle(k.Value, v, sub)
+	}
+	for _, m := range merged {
+		if d.overBudget() {
+			return
+		}
+		d.mergeFields(m, path, known, seen, handle)
+	}
+}
+
+// mergeFields applies one merge-key value: a mapping or a list of mappings.
+func (d *decoder) mergeFields(m *yaml.Node, path string, known []string, seen map[string]*yaml.Node, handle func(string, *yaml.Node, string)) {
+	m = d.resolve(m)
+	sources := []*yaml.Node{m}
+	if m.Kind == yaml.SequenceNode {
+		sources = m.Content
+	}
+	for _, src := range sources {
+		src = d.resolve(src)
+		if src.Kind != yaml.MappingNode {
+			d.errorf(src, path, "a merge key (<<) takes a mapping or a list of mappings, found %s", describe(src))
+			continue
+		}
+		for i := 0; i+1 < len(src.Content); i += 2 {
+			k := d.resolve(src.Content[i])
+			if _, set := seen[k.Value]; set || k.Kind != yaml.ScalarNode || !slices.Contains(known, k.Value) {
+				continue
+			}
+			seen[k.Value] = k
+			handle(k.Value, src.Content[i+1], joinPath(path, k.Value))
+		}
+	}
+}
+
+func joinPath(path, key string) string {
+	if path == "" {
+		return key
+	}
+	return path + "." + key
+}
+
+func describe(n *yaml.Node) string {
+	switch n.Kind {
+	case yaml.MappingNode:
+		return "a mapping"
+	case yaml.SequenceNode:
+		return "a list"
+	case yaml.ScalarNode:
+		switch n.ShortTag() {
+		case "!!str":
+			return fmt.Sprintf("the text %q", clip(n.Value))
+		case "!!null":
+			return "nothing"
+		default:
+			return fmt.Sprintf("%q", clip(n.Value))
+		}
+	}
+	return "an unsupported YAML node"
+}
+
+func clip(s string) string {
+	if len(s) > 40 {
+		return s[:37] + "..."
+	}
+	return s
+}
+
+// number reads a finite number.
+func (d *decoder) number(n *yaml.Node, path string) (float64, bool) {
+	n = d.resolve(n)
+	if n.Kind == yaml.ScalarNode && (n.ShortTag() == "!!int" || n.ShortTag() == "!!float") {
+		v, err := strconv.ParseFloat(strings.ReplaceAll(n.Value, "_", ""), 64)
+		if n.ShortTag() == "!!int" && err != nil {
+			var i int64
+			i, err = strconv.ParseInt(strings.ReplaceAll(n.Value, "_", ""), 0, 64)
+			v = float64(i)
+		}
+		if err == nil && !math.IsInf(v, 0) && !math.IsNaN(v) {
+			return v, true
+		}
+		if err == nil {
+			d.errorf(n, path, "expected a finite number, found %s", n.Value)
+			return 0, false
+		}
+	}
+	d.errorf(n, path, "expected a number, found %s", describe(n))
+	return 0, false
+}
+
+// integer reads a whole number within lo..hi.
+func (d *decoder) integer(n *yaml.Node, path string, lo, hi int) (int, bool) {
+	n = d.resolve(n)
+	v, ok := d.number(n, path)
+	if !ok {
+		return 0, false
+	}
+	if v != math.Trunc(v) {
+		d.errorf(n, path, "expected a whole number, found %s", n.Value)
+		return 0, false
+	}
+	if v < float64(lo) || v > float64(hi) {
+		d.errorf(n, path, "%s is out of range: expected %d..%d", n.Value, lo, hi)
+		return 0, false
+	}
+	return int(v), true
+}
+
+// ranged reads a number within lo..hi (inclusive).
+func (d *decoder) ranged(n *yaml.Node, path string, lo, hi float64, unit string) (float64, bool) {
+	v, ok := d.number(n, path)
+	if ok && (v < lo || v > hi) {
+		d.errorf(d.resolve(n), path, "%g%s is out of range: expected %g..%g%s", v, unit, lo, hi, unit)
+		return 0, false
+	}
+	return v, ok
+}
+
+// text reads a scalar as a string.
+func (d *decoder) text(n *yaml.Node, path string) (string, bool) {
+	n = d.resolve(n)
+	if n.Kind != yaml.ScalarNode || n.ShortTag() == "!!null" {
+		d.errorf(n, path, "expected text, found %s", describe(n))
+		return "", false
+	}
+	return n.Value, true
+}
+
+// items returns the elements of a list, or the node itself when a single
+// value stands where a list is allowed.
+func (d *decoder) items(n *yaml.Node) []*yaml.Node {
+	n = d.resolve(n)
+	if n.Kind == yaml.SequenceNode {
+		return n.Content
+	}
+	return []*yaml.Node{n}
+}

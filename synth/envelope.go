@@ -1,0 +1,116 @@
+package synth
+
+import (
+	"math"
+
+	"sinter/patch"
+)
+
+// curveDepth shapes decay and release: the normalised curve
+// (e^(−k·u) − e^(−k)) / (1 − e^(−k)) falls like an exponential, straight in
+// dB, to −60 dB of its range near the end (k = ln 1000), and the offset
+// makes it land exactly on its target at u = 1 instead of approaching it
+// forever.
+var (
+	curveDepth = math.Log(1000)
+	curveFloor = math.Exp(-curveDepth)
+)
+
+func curve(u float64) float64 {
+	return (math.Exp(-curveDepth*u) - curveFloor) / (1 - curveFloor)
+}
+
+// Envelope segments.
+const (
+	segAttack = iota
+	segDecay
+	segSustain
+	segRelease
+	segDone
+)
+
+// envelope is a patch.Envelope in sample units with its breakpoints, so it
+// can be evaluated at any sample and split into straight spans.
+type envelope struct {
+	attack, decayEnd, noteOff, releaseEnd float64 // sample positions
+	sustain                               float64
+	offLevel                              float64 // level reached at note-off
+}
+
+// newEnvelope scales e's times by sampleRate; noteOff is already in samples.
+func newEnvelope(e patch.Envelope, sampleRate, noteOff float64) envelope {
+	env := envelope{
+		attack:  e.Attack * sampleRate,
+		sustain: e.Sustain,
+		noteOff: noteOff,
+	}
+	env.decayEnd = env.attack + e.Decay*sampleRate
+	env.releaseEnd = env.noteOff + e.Release*sampleRate
+	env.offLevel = env.held(env.noteOff)
+	return env
+}
+
+// segment returns which part of the envelope sample t falls in.
+func (e *envelope) segment(t float64) int {
+	switch {
+	case t >= e.releaseEnd:
+		return segDone
+	case t >= e.noteOff:
+		return segRelease
+	case t < e.attack:
+		return segAttack
+	case t < e.decayEnd:
+		return segDecay
+	}
+	return segSustain
+}
+
+// held is the level while the key is down: linear attack from 0 to 1, the
+// curve from 1 down to sustain, then sustain.
+func (e *envelope) held(t float64) float64 {
+	switch {
+	case t < e.attack:
+		return t / e.attack
+	case t < e.decayEnd:
+		return e.sustain + (1-e.sustain)*curve((t-e.attack)/(e.decayEnd-e.attack))
+	}
+	return e.sustain
+}
+
+// levelIn evaluates segment seg's formula at t, also beyond the segment's
+// end, so a span's end value continues the span's own segment.
+func (e *envelope) levelIn(seg int, t float64) float64 {
+	switch seg {
+	case segAttack:
+		return t / e.attack
+	case segDecay:
+		return e.sustain + (1-e.sustain)*curve((t-e.attack)/(e.decayEnd-e.attack))
+	case segSustain:
+		return e.sustain
+	case segRelease:
+		return e.offLevel * curve((t-e.noteOff)/(e.releaseEnd-e.noteOff))
+	}
+	return 0
+}
+
+// nextBreak returns the first whole sample after t at which the segment
+// changes, so spans never straddle a corner of the envelope.
+func (e *envelope) nextBreak(t float64) int {
+	next := math.Inf(1)
+	for _, b := range [...]float64{e.attack, e.decayEnd, e.noteOff, e.releaseEnd} {
+		if b > t && b < next {
+			next = b
+		}
+	}
+	if math.IsInf(next, 1) {
+		return math.MaxInt
+	}
+	return int(math.Ceil(next))
+}
+
+// At returns the level of envelope e at t seconds for a note released at
+// noteOff seconds: the exact curve that Render meets at its control points.
+func At(e patch.Envelope, t, noteOff float64) float64 {
+	env := newEnvelope(e, 1, noteOff)
+	return env.levelIn(env.segment(t), t)
+}

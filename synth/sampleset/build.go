@@ -1,0 +1,320 @@
+// Package sampleset renders a whole patch.Plan into a folder: the WAV files,
+// the SFZ mapping and manifest.json. The folder is replaced as a unit: the
+// set is rendered into a staging folder beside it and swapped in only when
+// complete, so a failed or interrupted render leaves the previous set as it
+// was.
+package sampleset
+
+import (
+	"bufio"
+	"context"
+	"crypto/sha256"
+	"encoding/hex"
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"path/filepath"
+	"sync"
+
+	"sinter/patch"
+	"sinter/synth"
+	"sinter/synth/manifest"
+	"sinter/synth/mapping"
+	"sinter/synth/wav"
+)
+
+// Options controls a build.
+type Options struct {
+	Jobs    int    // notes rendered at once; 0 or less means 1
+	Version string // sinter version recorded in the manifest
+	// Progress, if set, is called after each file is written, from one
+	// goroutine at a time.
+	Progress func(done, total int, file string)
+}
+
+// Result describes a finished build.
+type Result struct {
+	Dir      string
+	Manifest *manifest.Manifest
+	Stats    synth.Stats
+	Warnings []string
+}
+
+// silentDBFS stands for the level of a file with no signal, which has no
+// finite value in decibels.
+const silentDBFS = -200.0
+
+// Build renders plan into plan.OutputDir. Levelling needs the peak of the
+// whole set before the first file is written, so every note is rendered
+// twice: once to measure, once to write. That keeps memory to one note per
+// job however large the set is.
+func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error) {
+	dir := plan.OutputDir
+	if err := checkReplaceable(dir); err != nil {
+		return nil, err
+	}
+	jobs := max(1, opts.Jobs)
+	notes := plan.Notes
+	res := &Result{Dir: dir}
+
+	gain := 1.0
+	if !plan.Normalize.Off {
+		peaks := make([]float64, len(notes))
+		err := forEach(ctx, jobs, len(notes), func(w *worker, i int) error {
+			buf := w.render(&notes[i])
+			peaks[i] = synth.Peak(buf)
+			return nil
+		})
+		if err != nil {
+			return nil, err
+		}
+		setPeak := 0.0
+		for _, p := range peaks {
+			setPeak = max(setPeak, p)
+		}
+		if setPeak > 0 {
+			gain = math.Pow(10, plan.Normalize.PeakDBFS/20) / setPeak
+		} else {
+			res.Warnings = append(res.Warnings, "every file is silent: no partial is below the band limit with a level above zero")
+		}
+	}
+
+	if err := os.MkdirAll(filepath.Dir(dir), 0o755); err != nil {
+		return nil, fmt.Errorf("cannot create the output folder's parent: %w", err)
+	}
+	staging, err := os.MkdirTemp(filepath.Dir(dir), "."+filepath.Base(dir)+".staging-")
+	if err != nil {
+		return nil, fmt.Errorf("cannot create a staging folder beside %s: %w", dir, err)
+	}
+	defer os.RemoveAll(staging) // after a successful swap it no longer exists
+
+	m := &manifest.Manifest{
+		Sinter:  opts.Version,
+		Patch:   manifest.Patch{Name: plan.Name, SHA256: plan.PatchSHA256},
+		GainDB:  20 * math.Log10(gain),
+		Mapping: plan.Name + ".sfz",
+		Files:   make([]manifest.File, len(notes)),
+	}
+	stats := make([]synth.Stats, len(notes))
+	clipped := make([]bool, len(notes))
+	var progressMu sync.Mutex
+	done := 0
+	err = forEach(ctx, jobs, len(notes), func(w *worker, i int) error {
+		n := &notes[i]
+		buf := w.render(n)
+		stats[i] = w.stats
+		synth.Scale(buf, gain)
+		peak := synth.Peak(buf)
+		clipped[i] = peak > 1 && plan.BitDepth != 32
+		sum, err := writeWAV(filepath.Join(staging, n.File), buf, n, plan.BitDepth)
+		if err != nil {
+			return err
+		}
+		peakDB := silentDBFS
+		if peak > 0 {
+			peakDB = max(silentDBFS, 20*math.Log10(peak))
+		}
+		m.Files[i] = manifest.File{
+			Path: n.File, Key: n.Key, Note: patch.NoteName(n.Key), Velocity: n.Velocity,
+			KeyRange: [2]int{n.KeyLow, n.KeyHigh}, VelocityRange: [2]int{n.VelLow, n.VelHigh},
+			SampleRate: n.SampleRate, BitDepth: plan.BitDepth, Channels: n.Channels, Frames: n.Frames,
+			PeakDBFS: math.Round(peakDB*100) / 100, Partials: len(n.Partials), SHA256: sum,
+		}
+		if opts.Progress != nil {
+			progressMu.Lock()
+			done++
+			opts.Progress(done, len(notes), n.File)
+			progressMu.Unlock()
+		}
+		return nil
+	})
+	if err != nil {
+		return nil, err
+	}
+	for i, s := range stats {
+		res.Stats.PartialSamples += s.PartialSamples
+		res.Stats.Nominal += s.Nominal
+		if clipped[i] {
+			res.Warnings = append(res.Warnings, fmt.Sprintf("%s clips: its peak is above full scale (normalize is off)", notes[i].File))
+		}
+	}
+	if err := writeMapping(filepath.Join(staging, m.Mapping), notes, plan.Name); err != nil {
+		return nil, err
+	}
+	if err := writeAtomically(filepath.Join(staging, manifest.FileName), func(w io.Writer) error { return manifest.Write(w, m) }); err != nil {
+		return nil, err
+	}
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
+	if err := swap(staging, dir); err != nil {
+		return nil, err
+	}
+	res.Manifest = m
+	return res, nil
+}
+
+// worker owns the scratch memory of one goroutine.
+type worker struct {
+	renderer synth.Renderer
+	buf      []float64
+	stats    synth.Stats
+}
+
+func (w *worker) render(n *patch.Note) []float64 {
+	size := synth.Frames(n)
+	if cap(w.buf) < size {
+		w.buf = make([]float64, size)
+	}
+	w.buf = w.buf[:size]
+	w.stats = w.renderer.Render(w.buf, n)
+	return w.buf
+}
+
+// forEach calls fn for every index below count on jobs goroutines, each
+// with its own worker. It stops handing out indices after the first error or
+// when ctx is cancelled, and returns that error. Results must be stored by
+// index, which keeps the output independent of the number of jobs.
+func forEach(ctx context.Context, jobs, count int, fn func(w *worker, i int) error) error {
+	ctx, cancel := context.WithCancelCause(ctx)
+	defer cancel(nil)
+	next := make(chan int)
+	var wg sync.WaitGroup
+	for range min(jobs, max(count, 1)) {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			w := &worker{}
+			for i := range next {
+				if err := fn(w, i); err != nil {
+					cancel(err)
+				}
+			}
+		}()
+	}
+feed:
+	for i := range count {
+		if ctx.Err() != nil {
+			break
+		}
+		select {
+		case next <- i:
+		case <-ctx.Done():
+			break feed
+		}
+	}
+	close(next)
+	wg.Wait()
+	return context.Cause(ctx)
+}
+
+// writeWAV encodes one note and returns the file's SHA-256 in hex.
+func writeWAV(path string, buf []float64, n *patch.Note, bitDepth int) (string, error) {
+	opts := wav.Options{
+		SampleRate: n.SampleRate, BitDepth: bitDepth, Channels: n.Channels,
+		Sampler: &wav.Sampler{UnityNote: uint8(n.Key)},
+		Instrument: &wav.Instrument{
+			UnshiftedNote: uint8(n.Key),
+			LowNote:       uint8(n.KeyLow), HighNote: uint8(n.KeyHigh),
+			LowVelocity: uint8(n.VelLow), HighVelocity: uint8(n.VelHigh),
+		},
+	}
+	h := sha256.New()
+	err := writeAtomically(path, func(w io.Writer) error {
+		return wav.Encode(io.MultiWriter(w, h), buf, opts)
+	})
+	return hex.EncodeToString(h.Sum(nil)), err
+}
+
+// writeAtomically writes a file under a temporary name and renames it when
+// complete, so no reader ever sees half a file under the final name.
+func writeAtomically(path string, write func(io.Writer) error) error {
+	tmp := path + ".partial"
+	f, err := os.Create(tmp)
+	if err != nil {
+		return fmt.Errorf("cannot create %s: %w", tmp, err)
+	}
+	bw := bufio.NewWriterSize(f, 256<<10)
+	err = write(bw)
+	if err == nil {
+		err = bw.Flush()
+	}
+	if cerr := f.Close(); err == nil {
+		err = cerr
+	}
+	if err == nil {
+		err = os.Rename(tmp, path)
+	}
+	if err != nil {
+		os.Remove(tmp)
+		return fmt.Errorf("cannot write %s: %w", path, err)
+	}
+	return nil
+}
+
+func writeMapping(path string, notes []patch.Note, title string) error {
+	regions := make([]mapping.Region, len(notes))
+	for i, n := range notes {
+		regions[i] = mapping.Region{Sample: n.File, Root: n.Key, LowKey: n.KeyLow, HighKey: n.KeyHigh, LowVel: n.VelLow, HighVel: n.VelHigh}
+	}
+	return writeAtomically(path, func(w io.Writer) error {
+		return mapping.WriteSFZ(w, regions, mapping.Options{Title: title + ", rendered by sinter"})
+	})
+}
+
+// checkReplaceable refuses to replace a folder that sinter did not make:
+// one that exists, is not empty and has no manifest.
+func checkReplaceable(dir string) error {
+	info, err := os.Stat(dir)
+	if errors.Is(err, os.ErrNotExist) {
+		return nil
+	}
+	if err != nil {
+		return fmt.Errorf("cannot read the output folder: %w", err)
+	}
+	if !info.IsDir() {
+		return fmt.Errorf("the output path %s is a file, not a folder", dir)
+	}
+	entries, err := os.ReadDir(dir)
+	if err != nil {
+		return fmt.Errorf("cannot read the output folder: %w", err)
+	}
+	if len(entries) == 0 {
+		return nil
+	}
+	if _, err := os.Stat(filepath.Join(dir, manifest.FileName)); err != nil {
+		return fmt.Errorf("refusing to replace %s: it is not empty and holds no %s, so it is not a sample set sinter wrote; choose another output folder", dir, manifest.FileName)
+	}
+	return nil
+}
+
+// swap moves the finished staging folder to dir, replacing what was there.
+func swap(staging, dir string) error {
+	if err := checkReplaceable(dir); err != nil {
+		return err
+	}
+	old := ""
+	if _, err := os.Stat(dir); err == nil {
+		parking, err := os.MkdirTemp(filepath.Dir(dir), "."+filepath.Base(dir)+".previous-")
+		if err != nil {
+			return fmt.Errorf("cannot set the previous set aside: %w", err)
+		}
+		os.Remove(parking)
+		if err := os.Rename(dir, parking); err != nil {
+			return fmt.Errorf("cannot set the previous set aside: %w", err)
+		}
+		old = parking
+	}
+	if err := os.Rename(staging, dir); err != nil {
+		if old != "" {
+			os.Rename(old, dir)
+		}
+		return fmt.Errorf("cannot move the new set into %s: %w", dir, err)
+	}
+	if old != "" {
+		os.RemoveAll(old)
+	}
+	return nil
+}
