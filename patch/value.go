@@ -4,6 +4,8 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"regexp"
+	"strconv"
 	"strings"
 
 	"gopkg.in/yaml.v3"
@@ -25,6 +27,8 @@ const (
 	varVel
 	varCount
 )
+
+var exprColumn = regexp.MustCompile(`column \d+`)
 
 // Value is a patch setting that is a number or an expression of the partial
 // (see Variables), optionally written in decibels ("-6 dB" or "-3*log2(n) dB").
@@ -95,8 +99,14 @@ func (d *decoder) value(n *yaml.Node, path string, decibelsAllowed bool) (Value,
 	if err != nil {
 		var ee *expr.Error
 		if errors.As(err, &ee) && !strings.Contains(src, "\n") {
+			// The expression counts columns from its own start; shift them so
+			// they match the file's columns like the position before them.
+			msg := exprColumn.ReplaceAllStringFunc(ee.Msg, func(m string) string {
+				c, _ := strconv.Atoi(strings.TrimPrefix(m, "column "))
+				return fmt.Sprintf("column %d", c+v.column-1)
+			})
 			d.errs = append(d.errs, &Error{File: d.file, Line: v.line, Column: v.column + ee.Offset, Path: path,
-				Msg: fmt.Sprintf("in expression %q: %s", clip(strings.TrimSpace(src)), ee.Msg)})
+				Msg: fmt.Sprintf("in expression %q: %s", clip(strings.TrimSpace(src)), msg)})
 		} else {
 			d.errorf(n, path, "in expression %q: %v", clip(strings.TrimSpace(src)), err)
 		}

@@ -1,0 +1,155 @@
+package main
+
+import (
+	"bytes"
+	"os"
+	"path/filepath"
+	"reflect"
+	"strings"
+	"testing"
+)
+
+const smallPatch = `name: test-tone
+sample_rate: 8000
+bit_depth: 16
+keys: [C4, E4]
+velocities: [64, 127]
+hold: 0.1
+tail: 0.05
+partials:
+  - harmonics: 4
+    amplitude: "1/n"
+`
+
+func writePatch(t *testing.T, text string) string {
+	t.Helper()
+	path := filepath.Join(t.TempDir(), "p.yaml")
+	if err := os.WriteFile(path, []byte(text), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	return path
+}
+
+func runCLI(args ...string) (code int, stdout, stderr string) {
+	var out, errs bytes.Buffer
+	code = run(args, &out, &errs)
+	return code, out.String(), errs.String()
+}
+
+func TestExitStatuses(t *testing.T) {
+	good := writePatch(t, smallPatch)
+	bad := writePatch(t, "name: test-tone\nsampel_rate: 8000\npartials: [{harmonics: 2}]\n")
+	cases := []struct {
+		name   string
+		args   []string
+		code   int
+		stdout string // substring expected on stdout
+		stderr string // substring expected on stderr
+	}{
+		{"no arguments", nil, exitUsage, "", "Usage:"},
+		{"help", []string{"help"}, exitOK, "sinter render PATCH.yaml", ""},
+		{"version", []string{"--version"}, exitOK, "sinter " + version, ""},
+		{"unknown command", []string{"bake"}, exitUsage, "", `unknown command "bake"`},
+		{"check good", []string{"check", good}, exitOK, "4 (2 keys x 2 velocity layers)", ""},
+		{"check bad patch", []string{"check", bad}, exitUsage, "", `p.yaml:2:1: sampel_rate: unknown key "sampel_rate" (did you mean "sample_rate"?)`},
+		{"check missing file", []string{"check", filepath.Join(t.TempDir(), "none.yaml")}, exitUsage, "", "cannot read the patch"},
+		{"render two patches", []string{"render", good, good}, exitUsage, "", "expected one argument, got 2"},
+		{"render bad flag", []string{"render", good, "--jobz", "2"}, exitUsage, "", "flag provided but not defined"},
+		{"render zero jobs", []string{"render", good, "--jobs", "0"}, exitUsage, "", "--jobs must be 1 or more"},
+		{"render key not in patch", []string{"render", good, "--keys", "D4"}, exitUsage, "", "key D4 (62) is not one of the patch's keys"},
+		{"render bad key list", []string{"render", good, "--keys", "C4,H9"}, exitUsage, "", `"H9" is not a key`},
+		{"verify missing set", []string{"verify", t.TempDir()}, exitFailure, "", "manifest.json"},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			code, stdout, stderr := runCLI(c.args...)
+			if code != c.code {
+				t.Errorf("exit %d, want %d\nstdout: %s\nstderr: %s", code, c.code, stdout, stderr)
+			}
+			if !strings.Contains(stdout, c.stdout) {
+				t.Errorf("stdout %q lacks %q", stdout, c.stdout)
+			}
+			if !strings.Contains(stderr, c.stderr) {
+				t.Errorf("stderr %q lacks %q", stderr, c.stderr)
+			}
+		})
+	}
+}
+
+func TestRenderThenVerify(t *testing.T) {
+	good := writePatch(t, smallPatch)
+	out := filepath.Join(t.TempDir(), "set")
+	code, stdout, stderr := runCLI("render", good, "-o", out, "--jobs", "2")
+	if code != exitOK {
+		t.Fatalf("render exit %d: %s", code, stderr)
+	}
+	if !strings.Contains(stdout, "rendered 4 files") {
+		t.Errorf("stdout %q", stdout)
+	}
+	// Not a terminal, so progress is one plain line per file (for CI logs).
+	if lines := strings.Count(stderr, "\n"); lines != 4 || strings.Contains(stderr, "\r") {
+		t.Errorf("progress on a non-terminal should be 4 plain lines, got %q", stderr)
+	}
+	names, _ := filepath.Glob(filepath.Join(out, "*.wav"))
+	if len(names) != 4 {
+		t.Fatalf("%d WAV files, want 4: %v", len(names), names)
+	}
+	if code, _, stderr := runCLI("verify", out); code != exitOK {
+		t.Fatalf("verify exit %d: %s", code, stderr)
+	}
+	if err := os.WriteFile(names[0], []byte("RIFF"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if code, _, stderr := runCLI("verify", out); code != exitFailure || !strings.Contains(stderr, filepath.Base(names[0])) {
+		t.Fatalf("verify of a damaged set: exit %d, stderr %q", code, stderr)
+	}
+}
+
+func TestBadPatchWritesNothing(t *testing.T) {
+	bad := writePatch(t, strings.Replace(smallPatch, `"1/n"`, `"1/(n-1)"`, 1))
+	out := filepath.Join(t.TempDir(), "set")
+	code, _, stderr := runCLI("render", bad, "-o", out)
+	if code != exitUsage || !strings.Contains(stderr, "partials[0].amplitude") {
+		t.Fatalf("exit %d, stderr %q", code, stderr)
+	}
+	if _, err := os.Stat(out); !os.IsNotExist(err) {
+		t.Fatalf("the output folder exists after a patch error: %v", err)
+	}
+	entries, _ := os.ReadDir(filepath.Dir(out))
+	if len(entries) != 0 {
+		t.Fatalf("files left beside the output folder: %v", entries)
+	}
+}
+
+func TestQuietRender(t *testing.T) {
+	good := writePatch(t, smallPatch)
+	code, stdout, stderr := runCLI("render", "--quiet", good, "-o", filepath.Join(t.TempDir(), "set"), "--keys", "E4")
+	if code != exitOK || stdout != "" || stderr != "" {
+		t.Fatalf("exit %d, stdout %q, stderr %q", code, stdout, stderr)
+	}
+}
+
+func TestParseKeys(t *testing.T) {
+	cases := []struct {
+		in   string
+		want []int
+	}{
+		// Scientific pitch notation, C4 = MIDI 60 (MIDI 1.0 Detailed Specification: middle C = 60).
+		{"C4,E4", []int{60, 64}},
+		{"60-62", []int{60, 61, 62}},
+		{"C4-D4", []int{60, 61, 62}},
+		{"C-1-C#-1", []int{0, 1}},
+		{" 69 ", []int{69}},
+	}
+	for _, c := range cases {
+		got, err := parseKeys(c.in)
+		if err != nil || !reflect.DeepEqual(got, c.want) {
+			t.Errorf("parseKeys(%q) = %v, %v; want %v", c.in, got, err, c.want)
+		}
+	}
+	for _, bad := range []string{"", "C4,", "62-60", "C4-", "Q4"} {
+		if _, err := parseKeys(bad); err == nil {
+			t.Errorf("parseKeys(%q) succeeded", bad)
+		}
+	}
+}
