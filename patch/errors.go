@@ -1,7 +1,9 @@
 package patch
 
 import (
+	"bytes"
 	"fmt"
+	"slices"
 	"strings"
 )
 
@@ -38,6 +40,34 @@ func (l ErrorList) Error() string {
 		lines[i] = e.Error()
 	}
 	return strings.Join(lines, "\n")
+}
+
+// sortByPosition puts the list in file order, keeping the order in which
+// problems at the same place were found.
+func (l ErrorList) sortByPosition() {
+	slices.SortStableFunc(l, func(a, b *Error) int {
+		if a.Line != b.Line {
+			return a.Line - b.Line
+		}
+		return a.Column - b.Column
+	})
+}
+
+// tabInIndent finds the first tab in the indentation of lines[from-1] or a
+// later line, returning its 1-based line and 0-based byte offset, or the
+// first tab anywhere on lines[from-1]; l is 0 when there is none.
+func tabInIndent(lines [][]byte, from int) (l, i int) {
+	for l := from; l <= len(lines); l++ {
+		text := lines[l-1]
+		indent := text[:len(text)-len(bytes.TrimLeft(text, " \t"))]
+		if i := bytes.IndexByte(indent, '\t'); i >= 0 {
+			return l, i
+		}
+	}
+	if i := bytes.IndexByte(lines[from-1], '\t'); i >= 0 {
+		return from, i
+	}
+	return 0, 0
 }
 
 // nearest returns the candidate closest to word by edit distance, if it is

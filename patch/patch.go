@@ -30,18 +30,73 @@ type Patch struct {
 	Keys       []int   // root keys as MIDI notes, ascending, no repeats
 	Velocities []int   // MIDI velocity of each layer, ascending, no repeats
 	Hold       float64 // seconds from note-on to note-off
-	Tail       float64 // seconds rendered after note-off
+	Tail       float64 // seconds rendered after note-off; with TailUntil, the most
+	TailUntil  float64 // linear level below which an automatic tail ends; 0 for a fixed tail
 	BandLimit  float64 // highest partial frequency, as a fraction of SampleRate
 	BandFade   float64 // width of the fade below the limit, as a fraction of the limit
 	Normalize  Normalize
+	Loop       LoopSpec
+	RoundRobin int    // variations of each key and layer, 1 or more
+	Seed       uint64 // base of every derived seed (random phases, dither)
+	Dither     bool   // TPDF dither before integer quantisation
 	Groups     []Group
 	OutputDir  string // resolved against the patch file's folder
 }
 
-// Normalize says how the set is levelled.
+// Measure is what levelling measures and sets.
+type Measure int
+
+// The measures levelling can target.
+const (
+	MeasureOff      Measure = iota // no gain: samples are written as rendered
+	MeasurePeak                    // sample peak, dBFS
+	MeasureTruePeak                // true peak, dBTP (ITU-R BS.1770 Annex 2)
+	MeasureLoudness                // integrated loudness, LUFS (ITU-R BS.1770)
+)
+
+// Scope is the group of files that share one levelling gain.
+type Scope int
+
+// The levelling scopes.
+const (
+	ScopeSet  Scope = iota // one gain for the whole set
+	ScopeKey               // one gain per root key: layers keep their balance
+	ScopeFile              // one gain per file
+)
+
+// Normalize says how the set is levelled: the loudest file of each scope
+// lands on Target, and no file may pass the ceiling.
 type Normalize struct {
-	Off      bool    // no gain: samples are written as rendered
-	PeakDBFS float64 // the loudest sample of the set lands here
+	Measure Measure
+	Target  float64 // dBFS, dBTP or LUFS, as Measure says
+	Scope   Scope
+	// Ceiling is the highest level any file may reach after levelling, in
+	// dBFS of sample peak, or dBTP when CeilingTruePeak is set.
+	Ceiling         float64
+	CeilingTruePeak bool
+	// Strict makes a level that would pass the ceiling an error instead of
+	// a warning and a lowered gain.
+	Strict bool
+}
+
+// LoopMode says whether and how files are looped.
+type LoopMode int
+
+// The loop modes.
+const (
+	LoopOff  LoopMode = iota
+	LoopAuto          // a whole number of cycles for harmonic notes, else a crossfade
+)
+
+// LoopSpec is the sustain loop a patch asks for; times in seconds, a
+// negative Start meaning "as soon as every envelope has settled".
+type LoopSpec struct {
+	Line, Column int
+	Mode         LoopMode
+	Start        float64
+	Length       float64 // the longest loop wanted
+	Crossfade    float64 // for inharmonic notes
+	Exact        bool    // retune a harmonic note so its loop holds whole cycles exactly
 }
 
 // Group is one entry of the patch's partials list: a single partial at a
@@ -71,6 +126,7 @@ const (
 	MaxSampleRate  = 384000
 	MaxSeconds     = 600 // hold + tail of one file
 	MaxSeries      = 4096
+	MaxRoundRobin  = 100
 	maxPatchBytes  = 4 << 20
 	defaultHold    = 2.0
 	defaultTail    = 1.0
@@ -81,7 +137,8 @@ const (
 var namePattern = regexp.MustCompile(`^[a-z0-9][a-z0-9._-]*$`)
 
 var topKeys = []string{"name", "sample_rate", "bit_depth", "channels", "tuning", "keys", "velocities",
-	"hold", "tail", "band_limit", "band_fade", "normalize", "envelope", "partials", "output"}
+	"hold", "tail", "band_limit", "band_fade", "normalize", "loop", "round_robin", "seed", "dither",
+	"envelope", "partials", "output"}
 
 // Load reads, parses and validates the patch at path. The error, if any, is
 // an ErrorList holding every problem found.
@@ -113,6 +170,7 @@ func Parse(file string, data []byte) (*Patch, error) {
 		return nil, ErrorList{{File: file, Line: 1, Column: 1, Msg: fmt.Sprintf("the patch expands to more than %d YAML nodes (aliases nested too deep?)", maxNodeVisits)}}
 	}
 	if len(d.errs) > 0 {
+		d.errs.sortByPosition()
 		return nil, d.errs
 	}
 	return p, nil
@@ -132,8 +190,10 @@ func syntaxError(file string, data []byte, err error) *Error {
 	col := 1
 	if lines := bytes.Split(data, []byte("\n")); line >= 1 && line <= len(lines) {
 		text := lines[line-1]
-		if i := bytes.IndexByte(text, '\t'); i >= 0 && strings.Contains(m[2], "tab") {
-			col = i + 1
+		if l, i := tabInIndent(lines, line); l > 0 && strings.Contains(m[2], "tab") {
+			// The parser names the line where the scalar or key before the
+			// tab began; the tab itself may be on a later line.
+			line, col = l, i+1
 		} else if trimmed := bytes.TrimLeft(text, " "); len(trimmed) > 0 {
 			col = len(text) - len(trimmed) + 1
 		}
@@ -145,7 +205,8 @@ func (d *decoder) patch(root *yaml.Node, p *Patch) {
 	p.SampleRate, p.BitDepth, p.Channels, p.A4 = 48000, 24, 1, 440
 	p.Velocities = []int{100}
 	p.Hold, p.Tail, p.BandLimit, p.BandFade = defaultHold, defaultTail, defaultBandLim, defaultFade
-	p.Normalize.PeakDBFS = -1
+	p.Normalize = defaultNormalize()
+	p.RoundRobin, p.Dither = 1, true
 	var keysNode, partialsNode, envelopeNode *yaml.Node
 	outputDir := ""
 	d.fields(root, "", topKeys, func(key string, v *yaml.Node, path string) {
@@ -178,13 +239,23 @@ func (d *decoder) patch(root *yaml.Node, p *Patch) {
 		case "hold":
 			p.Hold, _ = d.ranged(v, path, 0, MaxSeconds, " s")
 		case "tail":
-			p.Tail, _ = d.ranged(v, path, 0, MaxSeconds, " s")
+			p.Tail, p.TailUntil = d.tail(v, path)
 		case "band_limit":
 			p.BandLimit, _ = d.ranged(v, path, 0.01, 0.5, "")
 		case "band_fade":
 			p.BandFade, _ = d.ranged(v, path, 0, 1, "")
 		case "normalize":
 			p.Normalize = d.normalize(v, path)
+		case "loop":
+			p.Loop = d.loop(v, path)
+		case "round_robin":
+			p.RoundRobin, _ = d.integer(v, path, 1, MaxRoundRobin)
+		case "seed":
+			if s, ok := d.integer(v, path, 0, 1<<53); ok {
+				p.Seed = uint64(s)
+			}
+		case "dither":
+			p.Dither = d.onOff(v, path)
 		case "envelope":
 			envelopeNode = v
 		case "partials":
@@ -195,7 +266,9 @@ func (d *decoder) patch(root *yaml.Node, p *Patch) {
 			})
 		}
 	})
-	if p.Hold+p.Tail > MaxSeconds {
+	if p.TailUntil > 0 {
+		p.Tail = min(p.Tail, MaxSeconds-p.Hold)
+	} else if p.Hold+p.Tail > MaxSeconds {
 		d.errorf(root, "hold", "hold + tail is %g s; a file may last at most %d s", p.Hold+p.Tail, MaxSeconds)
 	}
 	if p.Name == "" && !hasKey(root, "name") {
@@ -327,32 +400,4 @@ func (d *decoder) velocities(n *yaml.Node, path string) []int {
 	}
 	slices.Sort(vels)
 	return vels
-}
-
-var dbfsPattern = regexp.MustCompile(`^\s*([+-]?[0-9]*\.?[0-9]+(?:[eE][+-]?[0-9]+)?)\s*(dBFS|dB)?\s*$`)
-
-func (d *decoder) normalize(n *yaml.Node, path string) Normalize {
-	norm := Normalize{PeakDBFS: -1}
-	if r := d.resolve(n); r.Kind == yaml.ScalarNode {
-		if r.Value == "off" || r.Value == "false" {
-			return Normalize{Off: true}
-		}
-		d.errorf(r, path, "expected off or a mapping such as {peak: -1 dBFS}, found %s", describe(r))
-		return norm
-	}
-	d.fields(n, path, []string{"peak"}, func(_ string, v *yaml.Node, path string) {
-		r := d.resolve(v)
-		m := dbfsPattern.FindStringSubmatch(r.Value)
-		if r.Kind != yaml.ScalarNode || m == nil {
-			d.errorf(r, path, "expected a level such as -1 dBFS, found %s", describe(r))
-			return
-		}
-		db, _ := strconv.ParseFloat(m[1], 64)
-		if db > 0 || db < -60 {
-			d.errorf(r, path, "peak %g dBFS is out of range: expected -60..0 dBFS", db)
-			return
-		}
-		norm.PeakDBFS = db
-	})
-	return norm
 }

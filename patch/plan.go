@@ -18,26 +18,33 @@ type Plan struct {
 	BitDepth    int
 	Channels    int
 	Normalize   Normalize
+	Dither      bool // TPDF dither for integer formats
 	OutputDir   string
 	Notes       []Note
 }
 
 // Note is one output file: a root key played at one velocity.
 type Note struct {
-	File      string // file name inside the output folder
-	Key       int    // MIDI root key
-	Velocity  int    // MIDI velocity the layer was rendered at
-	Variation int    // round-robin variation, 0 for the first
-	KeyLow    int    // lowest MIDI key this file serves in a sampler
-	KeyHigh   int    // highest MIDI key this file serves
-	VelLow    int    // lowest velocity this file serves
-	VelHigh   int    // highest velocity this file serves
+	File       string // file name inside the output folder
+	Key        int    // MIDI root key
+	Velocity   int    // MIDI velocity the layer was rendered at
+	Variation  int    // round-robin variation, 0 for the first
+	Variations int    // round-robin variations of this key and layer
+	Seed       uint64 // derived from the patch seed, key, velocity and variation
+	KeyLow     int    // lowest MIDI key this file serves in a sampler
+	KeyHigh    int    // highest MIDI key this file serves
+	VelLow     int    // lowest velocity this file serves
+	VelHigh    int    // highest velocity this file serves
 
 	F0         float64 // fundamental in Hz
 	SampleRate int
 	Channels   int
-	Frames     int // length of the file in sample frames
+	Frames     int // length of the file in sample frames; with TailUntil, the most
 	NoteOff    int // frame at which the note is released
+	// TailUntil, when above zero, ends the file once the signal, after
+	// levelling, stays below this linear level.
+	TailUntil float64
+	Loop      LoopRequest
 
 	Partials []Partial // the partials below the band limit
 	Dropped  int       // partials removed for reaching the band limit
@@ -52,6 +59,16 @@ type Partial struct {
 	Envelope  Envelope
 	Group     int     // index in the patch's partials list
 	Harmonic  float64 // n in expressions: harmonic number, 1 for a ratio partial
+}
+
+// LoopRequest is the sustain loop asked for one note, in frames; the
+// renderer chooses the exact points.
+type LoopRequest struct {
+	Mode      LoopMode
+	Start     int // first frame the loop may start at; the envelopes have settled there
+	MaxLength int // the longest loop wanted
+	Crossfade int // crossfade length for inharmonic notes
+	Exact     bool
 }
 
 // Envelope is an ADSR envelope: times in seconds, Sustain a level in 0..1.
@@ -92,29 +109,63 @@ func (p *Patch) Expand(opts ExpandOptions) (*Plan, error) {
 	plan := &Plan{
 		Name: p.Name, PatchFile: p.File, PatchSHA256: hex.EncodeToString(p.SHA256[:]),
 		SampleRate: p.SampleRate, BitDepth: p.BitDepth, Channels: p.Channels,
-		Normalize: p.Normalize, OutputDir: p.OutputDir,
+		Normalize: p.Normalize, Dither: p.Dither, OutputDir: p.OutputDir,
 	}
 	x := expander{patch: p, reported: map[string]bool{}}
-	frames := max(1, int(math.Round((p.Hold+p.Tail)*float64(p.SampleRate))))
-	noteOff := int(math.Round(p.Hold * float64(p.SampleRate)))
+	rate := float64(p.SampleRate)
+	frames := max(1, int(math.Round((p.Hold+p.Tail)*rate)))
+	noteOff := int(math.Round(p.Hold * rate))
 	for ki, key := range keys {
 		keyLow, keyHigh := splitRange(keys, ki)
 		for vi, vel := range p.Velocities {
 			velLow, velHigh := splitLayers(p.Velocities, vi)
-			n := Note{
-				File: fmt.Sprintf("%s_%03d_%s_v%03d.wav", p.Name, key, FileNoteName(key), vel),
-				Key:  key, Velocity: vel, KeyLow: keyLow, KeyHigh: keyHigh, VelLow: velLow, VelHigh: velHigh,
-				F0: KeyFrequency(key, p.A4), SampleRate: p.SampleRate, Channels: p.Channels,
-				Frames: frames, NoteOff: noteOff,
+			for variation := range p.RoundRobin {
+				n := Note{
+					File: fileName(p.Name, key, vel, variation, p.RoundRobin),
+					Key:  key, Velocity: vel, Variation: variation, Variations: p.RoundRobin,
+					Seed:   deriveSeed(p.Seed, uint64(key), uint64(vel), uint64(variation)),
+					KeyLow: keyLow, KeyHigh: keyHigh, VelLow: velLow, VelHigh: velHigh,
+					F0: KeyFrequency(key, p.A4), SampleRate: p.SampleRate, Channels: p.Channels,
+					Frames: frames, NoteOff: noteOff,
+				}
+				x.partials(&n)
+				if p.RoundRobin > 1 {
+					randomizePhases(&n)
+				}
+				if p.TailUntil > 0 {
+					// The release curves land exactly on zero, so nothing is
+					// heard after the longest one ends.
+					n.TailUntil = p.TailUntil
+					n.Frames = min(frames, noteOff+int(math.Ceil(longestRelease(n.Partials)*rate))+1)
+				}
+				x.loop(&n)
+				plan.Notes = append(plan.Notes, n)
 			}
-			x.partials(&n)
-			plan.Notes = append(plan.Notes, n)
 		}
 	}
 	if len(x.errs) > 0 {
 		return nil, x.errs
 	}
 	return plan, nil
+}
+
+// fileName builds NAME_KKK_NOTE_vVVV.wav, with _rrK (1-based) when the
+// set has round-robin variations.
+func fileName(name string, key, vel, variation, variations int) string {
+	base := fmt.Sprintf("%s_%03d_%s_v%03d", name, key, FileNoteName(key), vel)
+	if variations > 1 {
+		base += fmt.Sprintf("_rr%d", variation+1)
+	}
+	return base + ".wav"
+}
+
+// LongestRelease is the longest release time among partials, in seconds.
+func longestRelease(parts []Partial) float64 {
+	longest := 0.0
+	for _, p := range parts {
+		longest = max(longest, p.Envelope.Release)
+	}
+	return longest
 }
 
 func keyList(keys []int) string {
@@ -230,4 +281,50 @@ func (x *expander) eval(dst *float64, v Value, vars []float64, n *Note, lo, hi f
 			v.String(), what, vars[varN], vars[varRatio], vars[varHz], NoteName(n.Key), n.Velocity))
 	}
 	return false
+}
+
+// minLoopSeconds is the shortest sustain loop worth writing.
+const minLoopSeconds = 0.02
+
+// loop turns the patch's loop request into frames for one note: the loop
+// may start once every envelope has reached its sustain level (and, for a
+// crossfade, one crossfade later, since the fade reads the signal before
+// the start) and must end before note-off.
+func (x *expander) loop(n *Note) {
+	spec := x.patch.Loop
+	if spec.Mode == LoopOff {
+		return
+	}
+	rate := float64(n.SampleRate)
+	settled := 0.0
+	for _, p := range n.Partials {
+		settled = max(settled, p.Envelope.Attack+p.Envelope.Decay)
+	}
+	req := LoopRequest{Mode: spec.Mode, Crossfade: max(1, int(math.Round(spec.Crossfade*rate))), Exact: spec.Exact}
+	settledFrame := int(math.Ceil(settled * rate))
+	req.Start = settledFrame + req.Crossfade
+	if spec.Start >= 0 {
+		req.Start = int(math.Round(spec.Start * rate))
+		if req.Start < settledFrame+req.Crossfade {
+			x.loopError(fmt.Sprintf("the loop starts at %.3f s, but at key %s the envelopes settle only at %.3f s and the crossfade needs %.3f s before the start",
+				spec.Start, NoteName(n.Key), settled, spec.Crossfade))
+			return
+		}
+	}
+	req.MaxLength = min(int(math.Round(spec.Length*rate)), n.NoteOff-req.Start)
+	if req.MaxLength < max(int(minLoopSeconds*rate), 2*req.Crossfade) {
+		x.loopError(fmt.Sprintf("no room for a loop at key %s: it can start at %.3f s (envelopes settled plus the crossfade) but the note is released at %.3f s; raise hold or shorten attack, decay or crossfade",
+			NoteName(n.Key), float64(req.Start)/rate, float64(n.NoteOff)/rate))
+		return
+	}
+	n.Loop = req
+}
+
+func (x *expander) loopError(msg string) {
+	if x.reported["loop"] {
+		return
+	}
+	x.reported["loop"] = true
+	spec := x.patch.Loop
+	x.errs = append(x.errs, &Error{File: x.patch.File, Line: spec.Line, Column: spec.Column, Path: "loop", Msg: msg})
 }

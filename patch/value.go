@@ -61,7 +61,7 @@ func (v Value) eval(vars []float64) float64 {
 // String returns the setting as written in the patch.
 func (v Value) String() string {
 	if v.decibels {
-		return v.prog.Source() + " dB"
+		return strings.TrimSpace(v.prog.Source()) + " dB"
 	}
 	return v.prog.Source()
 }
@@ -98,7 +98,10 @@ func (d *decoder) value(n *yaml.Node, path string, decibelsAllowed bool) (Value,
 	prog, err := expr.Compile(src, Variables)
 	if err != nil {
 		var ee *expr.Error
-		if errors.As(err, &ee) && !strings.Contains(src, "\n") {
+		// A block scalar's text starts on a later line than the node, so
+		// its columns cannot be mapped onto the file.
+		block := n.Style&(yaml.LiteralStyle|yaml.FoldedStyle) != 0
+		if errors.As(err, &ee) && !block && !strings.Contains(src, "\n") {
 			// The expression counts columns from its own start; shift them so
 			// they match the file's columns like the position before them.
 			msg := exprColumn.ReplaceAllStringFunc(ee.Msg, func(m string) string {

@@ -80,16 +80,20 @@ func (d *decoder) fields(n *yaml.Node, path string, known []string, handle func(
 		}
 		handle(k.Value, v, sub)
 	}
+	done := map[*yaml.Node]bool{}
 	for _, m := range merged {
 		if d.overBudget() {
 			return
 		}
-		d.mergeFields(m, path, known, seen, handle)
+		d.mergeFields(m, path, known, seen, done, handle)
 	}
 }
 
 // mergeFields applies one merge-key value: a mapping or a list of mappings.
-func (d *decoder) mergeFields(m *yaml.Node, path string, known []string, seen map[string]*yaml.Node, handle func(string, *yaml.Node, string)) {
+// A merged mapping's own merge keys count too, below its own keys; done
+// holds the mappings already merged, so each is walked once however often
+// it is named (and a mapping that merges itself ends).
+func (d *decoder) mergeFields(m *yaml.Node, path string, known []string, seen map[string]*yaml.Node, done map[*yaml.Node]bool, handle func(string, *yaml.Node, string)) {
 	m = d.resolve(m)
 	sources := []*yaml.Node{m}
 	if m.Kind == yaml.SequenceNode {
@@ -101,13 +105,28 @@ func (d *decoder) mergeFields(m *yaml.Node, path string, known []string, seen ma
 			d.errorf(src, path, "a merge key (<<) takes a mapping or a list of mappings, found %s", describe(src))
 			continue
 		}
+		if done[src] {
+			continue
+		}
+		done[src] = true
+		var nested []*yaml.Node
 		for i := 0; i+1 < len(src.Content); i += 2 {
 			k := d.resolve(src.Content[i])
+			if k.Kind == yaml.ScalarNode && k.Value == "<<" && k.Tag == "!!merge" {
+				nested = append(nested, src.Content[i+1])
+				continue
+			}
 			if _, set := seen[k.Value]; set || k.Kind != yaml.ScalarNode || !slices.Contains(known, k.Value) {
 				continue
 			}
 			seen[k.Value] = k
 			handle(k.Value, src.Content[i+1], joinPath(path, k.Value))
+		}
+		for _, m := range nested {
+			if d.overBudget() {
+				return
+			}
+			d.mergeFields(m, path, known, seen, done, handle)
 		}
 	}
 }
@@ -149,10 +168,14 @@ func clip(s string) string {
 func (d *decoder) number(n *yaml.Node, path string) (float64, bool) {
 	n = d.resolve(n)
 	if n.Kind == yaml.ScalarNode && (n.ShortTag() == "!!int" || n.ShortTag() == "!!float") {
-		v, err := strconv.ParseFloat(strings.ReplaceAll(n.Value, "_", ""), 64)
+		s := strings.ReplaceAll(n.Value, "_", "")
+		if t := strings.TrimLeft(s, "+-"); strings.EqualFold(t, ".inf") || strings.EqualFold(t, ".nan") {
+			s = strings.Replace(s, ".", "", 1) // YAML's .inf and .nan are ParseFloat's inf and nan
+		}
+		v, err := strconv.ParseFloat(s, 64)
 		if n.ShortTag() == "!!int" && err != nil {
 			var i int64
-			i, err = strconv.ParseInt(strings.ReplaceAll(n.Value, "_", ""), 0, 64)
+			i, err = strconv.ParseInt(s, 0, 64)
 			v = float64(i)
 		}
 		if err == nil && !math.IsInf(v, 0) && !math.IsNaN(v) {

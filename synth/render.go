@@ -60,6 +60,11 @@ type Renderer struct {
 	mono []float64
 	osc  []oscillator
 	live []int
+	// Scratch for RenderLooped: a retuned copy of the note, and the
+	// continuation rendered after a crossfade loop.
+	tuned         patch.Note
+	tunedPartials []patch.Partial
+	continuation  []float64
 }
 
 // Frames returns the length of dst that Render needs for n.

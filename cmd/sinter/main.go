@@ -192,7 +192,7 @@ func render(args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "sinter render: warning: %s\n", w)
 	}
 	if !*quiet {
-		fmt.Fprintf(stdout, "rendered %d files into %s (gain %+.2f dB)\n", len(res.Manifest.Files), res.Dir, res.Manifest.GainDB)
+		fmt.Fprintf(stdout, "rendered %d files into %s (levelling: %s)\n", len(res.Manifest.Files), res.Dir, res.Manifest.Levelling)
 	}
 	return exitOK
 }

@@ -15,11 +15,11 @@ const FileName = "manifest.json"
 
 // Manifest describes one sample set.
 type Manifest struct {
-	Sinter  string  `json:"sinter"` // version of sinter that rendered the set
-	Patch   Patch   `json:"patch"`
-	GainDB  float64 `json:"gain_db"` // levelling gain applied to every file
-	Mapping string  `json:"mapping"` // the SFZ file, relative to the folder
-	Files   []File  `json:"files"`
+	Sinter    string `json:"sinter"` // version of sinter that rendered the set
+	Patch     Patch  `json:"patch"`
+	Levelling string `json:"levelling"` // what the gains were set by, e.g. "peak -1 dBFS per key"
+	Mapping   string `json:"mapping"`   // the SFZ file, relative to the folder
+	Files     []File `json:"files"`
 }
 
 // Patch identifies the patch a set was rendered from.
@@ -40,9 +40,31 @@ type File struct {
 	BitDepth      int     `json:"bit_depth"`
 	Channels      int     `json:"channels"`
 	Frames        int     `json:"frames"`
+	Variation     int     `json:"variation"` // round-robin position, 1-based
+	Variations    int     `json:"variations"`
 	PeakDBFS      float64 `json:"peak_dbfs"`
+	TruePeakDBTP  float64 `json:"true_peak_dbtp"`
+	LoudnessLUFS  float64 `json:"loudness_lufs"`
+	GainDB        float64 `json:"gain_db"` // levelling gain applied to this file
 	Partials      int     `json:"partials"`
+	Loop          *Loop   `json:"loop,omitempty"`
 	SHA256        string  `json:"sha256"`
+}
+
+// Loop is a file's sustain loop.
+type Loop struct {
+	Start int `json:"start"` // first frame of the loop
+	End   int `json:"end"`   // last frame of the loop, inclusive
+	// Crossfade is the length in frames of the crossfade baked into the
+	// loop's end; 0 for a loop of whole cycles.
+	Crossfade int `json:"crossfade"`
+	// PitchErrorCents is how far the repeated loop sounds from the note's
+	// pitch; RetuneCents how far the note was retuned to loop exactly.
+	PitchErrorCents float64 `json:"pitch_error_cents"`
+	RetuneCents     float64 `json:"retune_cents"`
+	// SeamRatio is the step across the seam over the largest step inside
+	// the loop: at most 1 for a seamless loop.
+	SeamRatio float64 `json:"seam_ratio"`
 }
 
 // Write encodes m as indented JSON.

@@ -20,6 +20,7 @@ import (
 
 	"sinter/patch"
 	"sinter/synth"
+	"sinter/synth/loudness"
 	"sinter/synth/manifest"
 	"sinter/synth/mapping"
 	"sinter/synth/wav"
@@ -46,10 +47,10 @@ type Result struct {
 // finite value in decibels.
 const silentDBFS = -200.0
 
-// Build renders plan into plan.OutputDir. Levelling needs the peak of the
-// whole set before the first file is written, so every note is rendered
-// twice: once to measure, once to write. That keeps memory to one note per
-// job however large the set is.
+// Build renders plan into plan.OutputDir. Levelling needs the level of
+// every file before the first is written, so every note is rendered twice:
+// once to measure, once to write. That keeps memory to one note per job
+// however large the set is.
 func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error) {
 	dir := plan.OutputDir
 	if err := checkReplaceable(dir); err != nil {
@@ -58,28 +59,29 @@ func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error)
 	jobs := max(1, opts.Jobs)
 	notes := plan.Notes
 	res := &Result{Dir: dir}
+	loops := make([]synth.Loop, len(notes))
+	looped := make([]bool, len(notes))
+	for i := range notes {
+		loops[i], looped[i] = synth.PlanLoop(&notes[i])
+	}
 
-	gain := 1.0
-	if !plan.Normalize.Off {
-		peaks := make([]float64, len(notes))
+	measured := make([]levels, len(notes))
+	if plan.Normalize.Measure != patch.MeasureOff {
+		truePeak, loudness := needs(plan.Normalize)
 		err := forEach(ctx, jobs, len(notes), func(w *worker, i int) error {
-			buf := w.render(&notes[i])
-			peaks[i] = synth.Peak(buf)
+			buf := w.render(&notes[i], loops[i])
+			measured[i] = w.measure(buf, &notes[i], truePeak, loudness)
 			return nil
 		})
 		if err != nil {
 			return nil, err
 		}
-		setPeak := 0.0
-		for _, p := range peaks {
-			setPeak = max(setPeak, p)
-		}
-		if setPeak > 0 {
-			gain = math.Pow(10, plan.Normalize.PeakDBFS/20) / setPeak
-		} else {
-			res.Warnings = append(res.Warnings, "every file is silent: no partial is below the band limit with a level above zero")
-		}
 	}
+	gains, warnings, err := levelGains(plan.Normalize, notes, measured)
+	if err != nil {
+		return nil, err
+	}
+	res.Warnings = append(res.Warnings, warnings...)
 
 	if err := os.MkdirAll(filepath.Dir(dir), 0o755); err != nil {
 		return nil, fmt.Errorf("cannot create the output folder's parent: %w", err)
@@ -91,11 +93,11 @@ func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error)
 	defer os.RemoveAll(staging) // after a successful swap it no longer exists
 
 	m := &manifest.Manifest{
-		Sinter:  opts.Version,
-		Patch:   manifest.Patch{Name: plan.Name, SHA256: plan.PatchSHA256},
-		GainDB:  20 * math.Log10(gain),
-		Mapping: plan.Name + ".sfz",
-		Files:   make([]manifest.File, len(notes)),
+		Sinter:    opts.Version,
+		Patch:     manifest.Patch{Name: plan.Name, SHA256: plan.PatchSHA256},
+		Levelling: plan.Normalize.String(),
+		Mapping:   plan.Name + ".sfz",
+		Files:     make([]manifest.File, len(notes)),
 	}
 	stats := make([]synth.Stats, len(notes))
 	clipped := make([]bool, len(notes))
@@ -103,25 +105,30 @@ func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error)
 	done := 0
 	err = forEach(ctx, jobs, len(notes), func(w *worker, i int) error {
 		n := &notes[i]
-		buf := w.render(n)
+		buf := w.render(n, loops[i])
 		stats[i] = w.stats
-		synth.Scale(buf, gain)
-		peak := synth.Peak(buf)
-		clipped[i] = peak > 1 && plan.BitDepth != 32
-		sum, err := writeWAV(filepath.Join(staging, n.File), buf, n, plan.BitDepth)
+		synth.Scale(buf, gains[i])
+		frames := n.Frames
+		if n.TailUntil > 0 {
+			notBefore := n.NoteOff
+			if looped[i] {
+				notBefore = max(notBefore, loops[i].End+1)
+			}
+			frames = synth.TrimTail(buf, n.Channels, n.SampleRate, n.TailUntil, notBefore)
+			buf = buf[:frames*n.Channels]
+		}
+		lv := w.measure(buf, n, true, true)
+		clipped[i] = lv.peak > 1 && plan.BitDepth != 32
+		var loop *synth.Loop
+		if looped[i] {
+			loop = &loops[i]
+		}
+		sum, err := writeWAV(filepath.Join(staging, n.File), buf, n, plan, loop)
 		if err != nil {
 			return err
 		}
-		peakDB := silentDBFS
-		if peak > 0 {
-			peakDB = max(silentDBFS, 20*math.Log10(peak))
-		}
-		m.Files[i] = manifest.File{
-			Path: n.File, Key: n.Key, Note: patch.NoteName(n.Key), Velocity: n.Velocity,
-			KeyRange: [2]int{n.KeyLow, n.KeyHigh}, VelocityRange: [2]int{n.VelLow, n.VelHigh},
-			SampleRate: n.SampleRate, BitDepth: plan.BitDepth, Channels: n.Channels, Frames: n.Frames,
-			PeakDBFS: math.Round(peakDB*100) / 100, Partials: len(n.Partials), SHA256: sum,
-		}
+		m.Files[i] = manifestEntry(n, plan.BitDepth, frames, gains[i], lv, buf, loop)
+		m.Files[i].SHA256 = sum
 		if opts.Progress != nil {
 			progressMu.Lock()
 			done++
@@ -140,7 +147,7 @@ func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error)
 			res.Warnings = append(res.Warnings, fmt.Sprintf("%s clips: its peak is above full scale (normalize is off)", notes[i].File))
 		}
 	}
-	if err := writeMapping(filepath.Join(staging, m.Mapping), notes, plan.Name); err != nil {
+	if err := writeMapping(filepath.Join(staging, m.Mapping), notes, loops, looped, plan.Name); err != nil {
 		return nil, err
 	}
 	if err := writeAtomically(filepath.Join(staging, manifest.FileName), func(w io.Writer) error { return manifest.Write(w, m) }); err != nil {
@@ -156,21 +163,67 @@ func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error)
 	return res, nil
 }
 
+// roundDB rounds a level for the manifest, writing silence as silentDBFS
+// since JSON has no infinity.
+func roundDB(db float64) float64 {
+	if math.IsInf(db, -1) || db < silentDBFS {
+		return silentDBFS
+	}
+	return math.Round(db*1000) / 1000
+}
+
+func manifestEntry(n *patch.Note, bitDepth, frames int, gain float64, lv levels, buf []float64, loop *synth.Loop) manifest.File {
+	f := manifest.File{
+		Path: n.File, Key: n.Key, Note: patch.NoteName(n.Key), Velocity: n.Velocity,
+		KeyRange: [2]int{n.KeyLow, n.KeyHigh}, VelocityRange: [2]int{n.VelLow, n.VelHigh},
+		SampleRate: n.SampleRate, BitDepth: bitDepth, Channels: n.Channels, Frames: frames,
+		Variation: n.Variation + 1, Variations: n.Variations,
+		PeakDBFS: roundDB(decibels(lv.peak)), TruePeakDBTP: roundDB(decibels(lv.truePeak)),
+		LoudnessLUFS: roundDB(lv.loudness), GainDB: roundDB(decibels(gain)), Partials: len(n.Partials),
+	}
+	if loop != nil {
+		seam, inside := synth.SeamStep(buf, n.Channels, *loop)
+		ratio := 0.0
+		if inside > 0 {
+			ratio = math.Round(seam/inside*1000) / 1000
+		}
+		f.Loop = &manifest.Loop{Start: loop.Start, End: loop.End, Crossfade: loop.Crossfade,
+			PitchErrorCents: loop.Cents, RetuneCents: loop.Retune, SeamRatio: ratio}
+	}
+	return f
+}
+
 // worker owns the scratch memory of one goroutine.
 type worker struct {
 	renderer synth.Renderer
 	buf      []float64
 	stats    synth.Stats
+	meter    *loudness.Meter
 }
 
-func (w *worker) render(n *patch.Note) []float64 {
+func (w *worker) render(n *patch.Note, loop synth.Loop) []float64 {
 	size := synth.Frames(n)
 	if cap(w.buf) < size {
 		w.buf = make([]float64, size)
 	}
 	w.buf = w.buf[:size]
-	w.stats = w.renderer.Render(w.buf, n)
+	w.stats = w.renderer.RenderLooped(w.buf, n, loop)
 	return w.buf
+}
+
+// measure takes the sample peak, and the true peak and loudness if asked.
+func (w *worker) measure(buf []float64, n *patch.Note, truePeak, loud bool) levels {
+	if w.meter == nil {
+		w.meter = loudness.NewMeter(n.Channels, n.SampleRate)
+	}
+	lv := levels{peak: synth.Peak(buf), loudness: math.Inf(-1)}
+	if truePeak {
+		lv.truePeak = w.meter.TruePeak(buf)
+	}
+	if loud {
+		lv.loudness = w.meter.Integrated(buf)
+	}
+	return lv
 }
 
 // forEach calls fn for every index below count on jobs goroutines, each
@@ -211,10 +264,21 @@ feed:
 }
 
 // writeWAV encodes one note and returns the file's SHA-256 in hex.
-func writeWAV(path string, buf []float64, n *patch.Note, bitDepth int) (string, error) {
+func writeWAV(path string, buf []float64, n *patch.Note, plan *patch.Plan, loop *synth.Loop) (string, error) {
+	sampler := &wav.Sampler{UnityNote: uint8(n.Key)}
+	if loop != nil {
+		sampler.Loops = []wav.Loop{{Start: uint32(loop.Start), End: uint32(loop.End)}}
+		if loop.Retune > 0 {
+			// The smpl pitch fraction is unsigned, "up from the unity note";
+			// a note retuned down keeps its unity note and the manifest
+			// records the retune.
+			sampler.PitchFraction = uint32(loop.Retune / 100 * (1 << 32))
+		}
+	}
 	opts := wav.Options{
-		SampleRate: n.SampleRate, BitDepth: bitDepth, Channels: n.Channels,
-		Sampler: &wav.Sampler{UnityNote: uint8(n.Key)},
+		SampleRate: n.SampleRate, BitDepth: plan.BitDepth, Channels: n.Channels,
+		Dither: plan.Dither && plan.BitDepth != 32, DitherSeed: n.Seed,
+		Sampler: sampler,
 		Instrument: &wav.Instrument{
 			UnshiftedNote: uint8(n.Key),
 			LowNote:       uint8(n.KeyLow), HighNote: uint8(n.KeyHigh),
@@ -254,13 +318,19 @@ func writeAtomically(path string, write func(io.Writer) error) error {
 	return nil
 }
 
-func writeMapping(path string, notes []patch.Note, title string) error {
+func writeMapping(path string, notes []patch.Note, loops []synth.Loop, looped []bool, title string) error {
 	regions := make([]mapping.Region, len(notes))
+	release := 0.0
 	for i, n := range notes {
-		regions[i] = mapping.Region{Sample: n.File, Root: n.Key, LowKey: n.KeyLow, HighKey: n.KeyHigh, LowVel: n.VelLow, HighVel: n.VelHigh}
+		regions[i] = mapping.Region{Sample: n.File, Root: n.Key, LowKey: n.KeyLow, HighKey: n.KeyHigh, LowVel: n.VelLow, HighVel: n.VelHigh,
+			Looped: looped[i], LoopStart: loops[i].Start, LoopEnd: loops[i].End,
+			SeqPosition: n.Variation + 1, SeqLength: n.Variations}
+		for _, p := range n.Partials {
+			release = max(release, p.Envelope.Release)
+		}
 	}
 	return writeAtomically(path, func(w io.Writer) error {
-		return mapping.WriteSFZ(w, regions, mapping.Options{Title: title + ", rendered by sinter"})
+		return mapping.WriteSFZ(w, regions, mapping.Options{Title: title + ", rendered by sinter", Release: release})
 	})
 }
 

@@ -1,0 +1,199 @@
+// Package loudness measures rendered buffers: integrated loudness per
+// ITU-R BS.1770-4 and true peak by oversampled reconstruction. It is pure
+// computation on interleaved float64 samples at full scale ±1; it does no
+// file I/O.
+//
+// A Meter is built once for a format (channel count and sample rate) and
+// reused: it keeps its scratch memory, so after the first call on a buffer
+// of a given length no call on a buffer that long or shorter allocates.
+//
+// # Loudness
+//
+// Each channel is K-weighted by two biquads, a high shelf and the RLB
+// high-pass. At 48 kHz their coefficients are those of BS.1770 Annex 1;
+// at other rates they are derived from an analog prototype with
+// Ω = tan(π·fc/fs), and the high-pass gain is scaled so that the passband
+// gain matches the 48 kHz filter, because BS.1770 asks for the same
+// response at every rate. Above about 32 kHz the response stays within
+// 0.02 dB of the 48 kHz one up to 10 kHz. At low rates the bilinear
+// mapping squeezes the shelf towards Nyquist: at 8 kHz a 1 kHz tone reads
+// about 0.2 LU low.
+//
+// Loudness is gated as BS.1770-4 specifies: 400 ms blocks every 100 ms,
+// absolute gate −70 LUFS, relative gate 10 LU below the power mean of the
+// blocks above the absolute gate. The hop is the sample rate divided by 10
+// and rounded, and a block is four hops, so at rates that are not
+// multiples of 10 Hz a block is within a sample or two of 400 ms. Frames
+// after the last whole hop belong to no block. A buffer shorter than one
+// block is measured as a single block spanning the whole buffer, so short
+// one-shot samples still get a reading.
+//
+// # True peak
+//
+// True peak follows the structure of BS.1770 Annex 2 (oversample, low-pass
+// interpolate, take the largest magnitude) but the interpolation filter is
+// our own design, since the Annex 2 coefficients are not available
+// verbatim here; it is validated against the EBU Tech 3341 true-peak test
+// cases and against sines whose crests are known analytically. The filter
+// is a Kaiser-windowed sinc (β = 8.25) with 32 taps per phase, cut off at
+// the input Nyquist frequency. Because its zero-phase taps are exactly the
+// input samples, the reading is never below the sample peak. Up to
+// 0.4167·fs (20 kHz at 48 kHz) every interpolated value is within 2e-4 of
+// full scale of the band-limited signal; what remains is the grid error of
+// oversampling, at most a factor cos(π·f/(L·fs)) for a sine at f with
+// oversampling L. The signal is taken as zero outside the buffer, so a
+// buffer that starts or stops abruptly reads the ringing of that edge.
+package loudness
+
+import "math"
+
+// absoluteGate is −70 LUFS expressed as K-weighted block power.
+var absoluteGate = math.Pow(10, (-70-loudnessOffset)/10)
+
+// Gating and calibration constants of BS.1770-4.
+const (
+	// loudnessOffset calibrates K-weighted power to LKFS: −0.691 dB cancels
+	// the K-weighting gain at 997 Hz.
+	loudnessOffset = -0.691
+	// blockHops is the number of 100 ms hops in a 400 ms gating block.
+	blockHops = 4
+	// relativeGateRatio is −10 LU expressed as a power ratio.
+	relativeGateRatio = 0.1
+)
+
+// Meter measures buffers of one format. Build it once with NewMeter and
+// reuse it for many buffers. A Meter is not safe for concurrent use; give
+// each goroutine its own.
+type Meter struct {
+	channels  int
+	hopFrames int // frames in one 100 ms hop
+	kWeighting
+	// state holds each channel's K-weighting filter memory during a call.
+	state [maxChannels]kState
+	// hopEnergy holds, per 100 ms hop, the K-weighted energy summed over
+	// channels; it is reused between calls.
+	hopEnergy []float64
+
+	oversampling int // 4, 2 or 1 (sample peak)
+	// chunk holds a stretch of one channel with its context, and doubled
+	// that stretch at twice the rate.
+	chunk, doubled []float64
+}
+
+// maxChannels is the largest channel count a Meter accepts. Both front
+// channels weigh 1.0 in BS.1770, so channel energies simply add.
+const maxChannels = 2
+
+// NewMeter returns a meter for interleaved buffers with the given channel
+// count (1 or 2; both front channels weigh 1.0 per BS.1770) and sample
+// rate in Hz (8000 to 384000). It panics on any other format.
+func NewMeter(channels, sampleRate int) *Meter {
+	if channels < 1 || channels > maxChannels {
+		panic("loudness: channel count must be 1 or 2")
+	}
+	if sampleRate < 8000 || sampleRate > 384000 {
+		panic("loudness: sample rate must be 8000 to 384000 Hz")
+	}
+	m := &Meter{
+		channels:   channels,
+		hopFrames:  int(math.Round(float64(sampleRate) / 10)),
+		kWeighting: newKWeighting(float64(sampleRate)),
+	}
+	switch {
+	case sampleRate < 96000:
+		m.oversampling = 4
+	case sampleRate < 192000:
+		m.oversampling = 2
+	default:
+		m.oversampling = 1
+	}
+	if m.oversampling > 1 {
+		m.chunk = make([]float64, chunkFrames+2*channelPad)
+		m.doubled = make([]float64, doubledLen(len(m.chunk)))
+	}
+	return m
+}
+
+// Integrated returns the integrated loudness of samples in LUFS per
+// ITU-R BS.1770-4: K-weighting, 400 ms blocks with 75 % overlap, absolute
+// gate −70 LUFS, relative gate −10 LU. The filters start from rest at the
+// first frame. A buffer shorter than one block is measured as a single
+// block over the whole buffer. Silence, an empty buffer, and a buffer
+// with no block above the absolute gate return math.Inf(-1). samples holds
+// interleaved frames; Integrated panics if its length is not a multiple
+// of the channel count.
+func (m *Meter) Integrated(samples []float64) float64 {
+	frames := m.frameCount(samples)
+	m.state = [maxChannels]kState{}
+	if frames < blockHops*m.hopFrames {
+		if frames == 0 {
+			return math.Inf(-1)
+		}
+		return gatedLoudness(m.weightedEnergy(samples) / float64(frames))
+	}
+
+	hops := frames / m.hopFrames
+	if cap(m.hopEnergy) < hops {
+		m.hopEnergy = make([]float64, hops)
+	}
+	energy := m.hopEnergy[:hops]
+	hopSamples := m.hopFrames * m.channels
+	for h := range energy {
+		energy[h] = m.weightedEnergy(samples[h*hopSamples : (h+1)*hopSamples])
+	}
+
+	// Turn hop energies into block powers in place: block j is hops j to
+	// j+3, and hop j is not read again once block j is written.
+	blockFrames := float64(blockHops * m.hopFrames)
+	blocks := energy[:hops-blockHops+1]
+	for j := range blocks {
+		blocks[j] = (energy[j] + energy[j+1] + energy[j+2] + energy[j+3]) / blockFrames
+	}
+
+	relativeGate := relativeGateRatio * meanAbove(blocks, absoluteGate)
+	return gatedLoudness(meanAbove(blocks, max(absoluteGate, relativeGate)))
+}
+
+// meanAbove returns the mean of the powers strictly above gate, or 0 if
+// there are none. Powers are averaged, not their loudness in dB.
+func meanAbove(powers []float64, gate float64) float64 {
+	sum, n := 0.0, 0
+	for _, p := range powers {
+		if p > gate {
+			sum += p
+			n++
+		}
+	}
+	if n == 0 {
+		return 0
+	}
+	return sum / float64(n)
+}
+
+// gatedLoudness converts a K-weighted power to LUFS, or −Inf if the power
+// does not pass the absolute gate.
+func gatedLoudness(power float64) float64 {
+	if !(power > absoluteGate) {
+		return math.Inf(-1)
+	}
+	return loudnessOffset + 10*math.Log10(power)
+}
+
+// weightedEnergy K-weights the interleaved frames of samples, continuing
+// each channel's filter state, and returns the sum of squares over all
+// channels.
+func (m *Meter) weightedEnergy(samples []float64) float64 {
+	e := 0.0
+	for c := range m.channels {
+		e += m.kWeighting.energy(samples[c:], m.channels, &m.state[c])
+	}
+	return e
+}
+
+// frameCount returns the number of interleaved frames in samples.
+func (m *Meter) frameCount(samples []float64) int {
+	if len(samples)%m.channels != 0 {
+		panic("loudness: buffer length is not a multiple of the channel count")
+	}
+	return len(samples) / m.channels
+}
