@@ -4,8 +4,10 @@
 // file I/O.
 //
 // A Meter is built once for a format (channel count and sample rate) and
-// reused: it keeps its scratch memory, so after the first call on a buffer
-// of a given length no call on a buffer that long or shorter allocates.
+// reused: it keeps its scratch memory. TruePeak never allocates;
+// Integrated keeps one value per 100 ms of signal, in a slice that grows
+// to the longest buffer measured, so after the first call on a buffer of a
+// given length no call on a buffer that long or shorter allocates.
 //
 // # Loudness
 //
@@ -30,25 +32,26 @@
 //
 // # True peak
 //
-// True peak follows the structure of BS.1770 Annex 2 (oversample, low-pass
-// interpolate, take the largest magnitude) but the interpolation filter is
-// our own design, since the Annex 2 coefficients are not available
-// verbatim here; it is validated against the EBU Tech 3341 true-peak test
-// cases and against sines whose crests are known analytically. The filter
-// is a Kaiser-windowed sinc (β = 8.25) with 32 taps per phase, cut off at
-// the input Nyquist frequency. Because its zero-phase taps are exactly the
-// input samples, the reading is never below the sample peak. Up to
-// 0.4167·fs (20 kHz at 48 kHz) every interpolated value is within 2e-4 of
-// full scale of the band-limited signal; what remains is the grid error of
-// oversampling, at most a factor cos(π·f/(L·fs)) for a sine at f with
-// oversampling L. The signal is taken as zero outside the buffer, so a
-// buffer that starts or stops abruptly reads the ringing of that edge.
+// True peak follows BS.1770 Annex 2 in structure (oversample, low-pass
+// interpolate, take the largest magnitude), but the interpolation filter
+// is our own design, because the Annex 2 coefficients are not available
+// verbatim here. It is validated against the EBU Tech 3341 true-peak cases
+// and against sines whose crests are known analytically. The rate is
+// doubled once (2×) or twice (4×); each doubling keeps the samples and
+// adds the midpoints, from a Kaiser-windowed sinc cut off at the Nyquist
+// frequency of its input: 32 taps (β = 8.25) for the first doubling, and
+// 12 taps (β = 10.95) for the second, which can be short because by then
+// the signal fills less than half the band. Together they form a 4-phase
+// interpolator whose points up to 0.4167·fs (20 kHz at 48 kHz) lie within
+// 2e-4 of full scale of the band-limited signal. What remains is the grid
+// error of oversampling: a sine at f may read as low as cos(π·f/(L·fs))
+// of its amplitude with oversampling L. Because the samples themselves
+// are points of the grid, the reading is never below the sample peak. The
+// signal is taken as zero outside the buffer, so a buffer that starts or
+// stops abruptly reads the ringing of that edge.
 package loudness
 
 import "math"
-
-// absoluteGate is −70 LUFS expressed as K-weighted block power.
-var absoluteGate = math.Pow(10, (-70-loudnessOffset)/10)
 
 // Gating and calibration constants of BS.1770-4.
 const (
@@ -61,13 +64,16 @@ const (
 	relativeGateRatio = 0.1
 )
 
+// absoluteGate is −70 LUFS expressed as K-weighted block power.
+var absoluteGate = math.Pow(10, (-70-loudnessOffset)/10)
+
 // Meter measures buffers of one format. Build it once with NewMeter and
 // reuse it for many buffers. A Meter is not safe for concurrent use; give
 // each goroutine its own.
 type Meter struct {
 	channels  int
 	hopFrames int // frames in one 100 ms hop
-	kWeighting
+	weighting kWeighting
 	// state holds each channel's K-weighting filter memory during a call.
 	state [maxChannels]kState
 	// hopEnergy holds, per 100 ms hop, the K-weighted energy summed over
@@ -95,9 +101,9 @@ func NewMeter(channels, sampleRate int) *Meter {
 		panic("loudness: sample rate must be 8000 to 384000 Hz")
 	}
 	m := &Meter{
-		channels:   channels,
-		hopFrames:  int(math.Round(float64(sampleRate) / 10)),
-		kWeighting: newKWeighting(float64(sampleRate)),
+		channels:  channels,
+		hopFrames: int(math.Round(float64(sampleRate) / 10)),
+		weighting: newKWeighting(float64(sampleRate)),
 	}
 	switch {
 	case sampleRate < 96000:
@@ -185,7 +191,7 @@ func gatedLoudness(power float64) float64 {
 func (m *Meter) weightedEnergy(samples []float64) float64 {
 	e := 0.0
 	for c := range m.channels {
-		e += m.kWeighting.energy(samples[c:], m.channels, &m.state[c])
+		e += m.weighting.energy(samples[c:], m.channels, &m.state[c])
 	}
 	return e
 }

@@ -176,6 +176,7 @@ func benchmarkBuffer() []float64 {
 func BenchmarkIntegrated(b *testing.B) {
 	m := loudness.NewMeter(1, 48000)
 	x := benchmarkBuffer()
+	m.Integrated(x) // warm-up: the first call may grow scratch memory
 	for b.Loop() {
 		m.Integrated(x)
 	}
@@ -184,6 +185,7 @@ func BenchmarkIntegrated(b *testing.B) {
 func BenchmarkTruePeak(b *testing.B) {
 	m := loudness.NewMeter(1, 48000)
 	x := benchmarkBuffer()
+	m.TruePeak(x) // warm-up: the first call may grow scratch memory
 	for b.Loop() {
 		m.TruePeak(x)
 	}
