@@ -131,7 +131,7 @@ func crossfadeLoop(n *patch.Note) Loop {
 // that leaves the loop at note-off plays on without a seam, into a release
 // at the note's own note-off frame.
 func (r *Renderer) RenderLooped(dst []float64, n *patch.Note, loop Loop) Stats {
-	if loop.scale != 1 {
+	if loop.Retune != 0 {
 		r.tuned = *n
 		r.tuned.Partials = append(r.tunedPartials[:0], n.Partials...)
 		for i := range r.tuned.Partials {

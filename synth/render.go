@@ -3,8 +3,9 @@
 // function is a pure function of the plan, so a note renders to the same
 // bits on every run and on every number of cores.
 //
-// The oscillators are resonators, y[n+1] = 2·cos ω·y[n] − y[n−1], four
-// partials interleaved so the processor overlaps their dependency chains.
+// The oscillators are resonators, y[n+1] = 2·cos ω·y[n] − y[n−1], run in
+// difference form (s += −4·sin²(ω/2)·y; y += s), which keeps its precision
+// for low frequencies where 2·cos ω rounds towards 2; four partials interleaved so the processor overlaps their dependency chains.
 // Every BlockFrames samples each resonator is re-seeded from an exact
 // phase kept as a 64-bit fixed-point accumulator, so rounding error never
 // grows with the length of the note and frequency may change per block
@@ -15,6 +16,7 @@ package synth
 
 import (
 	"math"
+	"math/bits"
 
 	"sinter/patch"
 )
@@ -38,13 +40,15 @@ type Stats struct {
 
 // oscillator is the per-partial state of one render.
 type oscillator struct {
-	phase0, inc uint64  // exact phase at sample 0 and per-sample increment
-	coef        float64 // 2·cos ω
-	sinW, cosW  float64
-	amp         float64
-	env         envelope
-	// y and yPrev are the resonator's last two outputs within a block.
-	y, yPrev float64
+	phase0, inc uint64 // exact phase at sample 0 and per-sample increment
+	// k is 4·sin²(ω/2), the resonator's coefficient in difference form;
+	// halfW is ω/2.
+	k, halfW float64
+	amp      float64
+	env      envelope
+	// y is the resonator's output and step its last difference,
+	// y[n] − y[n−1], within a block.
+	y, step float64
 	// gain and slope are the envelope times amplitude across the current span.
 	gain, slope float64
 	// endPos, endSeg and endLevel remember the envelope value computed at
@@ -102,12 +106,12 @@ func (r *Renderer) renderMono(out []float64, n *patch.Note) Stats {
 	rate := float64(n.SampleRate)
 	r.osc = r.osc[:0]
 	for _, p := range n.Partials {
-		inc := uint64(math.Round(p.Hz / rate * (1 << 64)))
-		w := float64(inc) * phaseUnit
-		sinW, cosW := math.Sincos(w)
+		inc := phaseIncrement(p.Hz, n.SampleRate)
+		halfW := float64(inc) * phaseUnit / 2
+		sinHalf := math.Sin(halfW)
 		r.osc = append(r.osc, oscillator{
 			phase0: phaseFixed(p.Phase),
-			inc:    inc, coef: 2 * cosW, sinW: sinW, cosW: cosW, amp: p.Amplitude,
+			inc:    inc, k: 4 * sinHalf * sinHalf, halfW: halfW, amp: p.Amplitude,
 			env:    newEnvelope(p.Envelope, rate, float64(n.NoteOff)),
 			endPos: -1,
 		})
@@ -150,9 +154,36 @@ func phaseFixed(radians float64) uint64 {
 // anchor seeds the resonator at sample b0 from the exact phase.
 func (o *oscillator) anchor(b0 int) {
 	theta := float64(int64(o.phase0+o.inc*uint64(b0))) * phaseUnit
-	s, c := math.Sincos(theta)
-	o.y = s
-	o.yPrev = s*o.cosW - c*o.sinW // sin(θ − ω)
+	o.y = math.Sin(theta)
+	// sin θ − sin(θ − ω), written so it keeps full precision when ω is small.
+	o.step = 2 * math.Cos(theta-o.halfW) * math.Sin(o.halfW)
+}
+
+// phaseIncrement returns the per-sample phase step of hz at rate, rounded to
+// the nearest 2^-64 of a cycle. It divides in integers, since the float64
+// quotient hz/rate carries a relative error of 2^-53, which would become a
+// phase drift that grows with the length of the note.
+func phaseIncrement(hz float64, rate int) uint64 {
+	mant, exp := math.Frexp(hz) // hz = mant · 2^exp, 0.5 <= mant < 1
+	m := uint64(mant * (1 << 53))
+	shift := exp - 53 + 64 // hz · 2^64 = m · 2^shift
+	var hi, lo uint64
+	switch {
+	case hz <= 0:
+		return 0
+	case shift >= 64:
+		hi, lo = m<<(shift-64), 0
+	case shift > 0:
+		hi, lo = m>>(64-shift), m<<shift
+	default:
+		lo = m >> -shift
+	}
+	// hz < rate/2, so the quotient fits in 64 bits (hi < rate).
+	q, rem := bits.Div64(hi, lo, uint64(rate))
+	if 2*rem >= uint64(rate) {
+		q++
+	}
+	return q
 }
 
 // span sets the oscillator's gain ramp for samples [from, to), which lie in
@@ -200,35 +231,40 @@ func (r *Renderer) block1(out []float64, o *oscillator, b0, b1 int) {
 // kernel4 adds four partials into out. Keeping every state in locals lets
 // the compiler hold them in registers; the four chains are independent.
 func kernel4(out []float64, p0, p1, p2, p3 *oscillator) {
-	y0, q0, c0, g0, d0 := p0.y, p0.yPrev, p0.coef, p0.gain, p0.slope
-	y1, q1, c1, g1, d1 := p1.y, p1.yPrev, p1.coef, p1.gain, p1.slope
-	y2, q2, c2, g2, d2 := p2.y, p2.yPrev, p2.coef, p2.gain, p2.slope
-	y3, q3, c3, g3, d3 := p3.y, p3.yPrev, p3.coef, p3.gain, p3.slope
+	y0, s0, k0, g0, d0 := p0.y, p0.step, p0.k, p0.gain, p0.slope
+	y1, s1, k1, g1, d1 := p1.y, p1.step, p1.k, p1.gain, p1.slope
+	y2, s2, k2, g2, d2 := p2.y, p2.step, p2.k, p2.gain, p2.slope
+	y3, s3, k3, g3, d3 := p3.y, p3.step, p3.k, p3.gain, p3.slope
 	for i := range out {
 		out[i] += (g0*y0 + g1*y1) + (g2*y2 + g3*y3)
-		y0, q0 = c0*y0-q0, y0
-		y1, q1 = c1*y1-q1, y1
-		y2, q2 = c2*y2-q2, y2
-		y3, q3 = c3*y3-q3, y3
+		s0 -= k0 * y0
+		s1 -= k1 * y1
+		s2 -= k2 * y2
+		s3 -= k3 * y3
+		y0 += s0
+		y1 += s1
+		y2 += s2
+		y3 += s3
 		g0 += d0
 		g1 += d1
 		g2 += d2
 		g3 += d3
 	}
-	p0.y, p0.yPrev = y0, q0
-	p1.y, p1.yPrev = y1, q1
-	p2.y, p2.yPrev = y2, q2
-	p3.y, p3.yPrev = y3, q3
+	p0.y, p0.step = y0, s0
+	p1.y, p1.step = y1, s1
+	p2.y, p2.step = y2, s2
+	p3.y, p3.step = y3, s3
 }
 
 func kernel1(out []float64, o *oscillator) {
-	y, q, c, g, d := o.y, o.yPrev, o.coef, o.gain, o.slope
+	y, s, k, g, d := o.y, o.step, o.k, o.gain, o.slope
 	for i := range out {
 		out[i] += g * y
-		y, q = c*y-q, y
+		s -= k * y
+		y += s
 		g += d
 	}
-	o.y, o.yPrev = y, q
+	o.y, o.step = y, s
 }
 
 // Peak returns the largest absolute sample value in buf.

@@ -127,11 +127,6 @@ func checkAccuracy(t *testing.T, c accuracyCase, tol float64) {
 // phase accumulator allows, would add at most n·2^-65 cycles (< 5e-13 rad
 // at 60 s), which the 1e-12 budget absorbs.
 func TestOscillatorAccuracy(t *testing.T) {
-	t.Skip("BUG: synth/render.go misses 1e-12: (1) renderMono computes inc = round(Hz/rate·2^64) from a float64 quotient, " +
-		"so the increment carries the quotient's 2^-53 relative rounding and the phase drifts by n·(f/fs)·2^-53 cycles " +
-		"(3520 Hz: 6.7e-12, 20 kHz: 3.3e-10 after 60 s); (2) the resonator's coefficient 2·cos ω is rounded to 2^-53, " +
-		"a frequency error of ~2^-54/sin ω that grows over each 256-sample block (55 Hz: 2.4e-12, 27.5 Hz: 4.5e-12). " +
-		"Remove this skip once fixed; TestOscillatorAccuracyGuard covers regressions meanwhile")
 	for _, c := range accuracyCases(60) {
 		t.Run(c.name, func(t *testing.T) { checkAccuracy(t, c, 1e-12) })
 	}

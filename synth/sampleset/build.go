@@ -179,7 +179,7 @@ func manifestEntry(n *patch.Note, bitDepth, frames int, gain float64, lv levels,
 		SampleRate: n.SampleRate, BitDepth: bitDepth, Channels: n.Channels, Frames: frames,
 		Variation: n.Variation + 1, Variations: n.Variations,
 		PeakDBFS: roundDB(decibels(lv.peak)), TruePeakDBTP: roundDB(decibels(lv.truePeak)),
-		LoudnessLUFS: roundDB(lv.loudness), GainDB: roundDB(decibels(gain)), Partials: len(n.Partials),
+		LoudnessLUFS: roundDB(lv.loudness), GainDB: decibels(gain), Partials: len(n.Partials),
 	}
 	if loop != nil {
 		seam, inside := synth.SeamStep(buf, n.Channels, *loop)
