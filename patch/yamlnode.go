@@ -8,6 +8,8 @@ import (
 	"strings"
 
 	"gopkg.in/yaml.v3"
+
+	"sinter/patch/spelling"
 )
 
 // maxNodeVisits bounds the work of walking a patch, so that a document whose
@@ -71,7 +73,7 @@ func (d *decoder) fields(n *yaml.Node, path string, known []string, handle func(
 		}
 		seen[k.Value] = k
 		if !slices.Contains(known, k.Value) {
-			if guess, ok := nearest(k.Value, known); ok {
+			if guess := spelling.Nearest(k.Value, known); guess != "" {
 				d.errorf(k, sub, "unknown key %q (did you mean %q?)", k.Value, guess)
 			} else {
 				d.errorf(k, sub, "unknown key %q; expected one of %s", k.Value, strings.Join(known, ", "))

@@ -5,6 +5,8 @@ import (
 	"maps"
 	"math"
 	"slices"
+
+	"sinter/patch/spelling"
 )
 
 var constants = map[string]float64{
@@ -95,45 +97,10 @@ func (f function) checkArity(name string, n int) string {
 }
 
 // suggestion returns ` (did you mean "x"?)` naming the candidate closest to
-// name, or "" if none is close. Close means within two edits and fewer
-// edits than name has characters, so that a one-letter name is never
-// "corrected" into an unrelated one. Ties go to the earliest candidate.
+// name, or "" if none is close (see spelling.Nearest).
 func suggestion(name string, candidateLists ...[]string) string {
-	best, bestDistance := "", min(3, len(name))
-	for _, candidates := range candidateLists {
-		for _, c := range candidates {
-			if d := editDistance(name, c); d < bestDistance {
-				best, bestDistance = c, d
-			}
-		}
+	if best := spelling.Nearest(name, candidateLists...); best != "" {
+		return fmt.Sprintf(" (did you mean %q?)", best)
 	}
-	if best == "" {
-		return ""
-	}
-	return fmt.Sprintf(" (did you mean %q?)", best)
-}
-
-// editDistance returns the Levenshtein distance between a and b: the least
-// number of single-byte insertions, deletions and substitutions that turn
-// one into the other.
-func editDistance(a, b string) int {
-	// prev[j] holds the distance between the prefix of a scanned so far and
-	// b[:j]; only one row of the table is needed at a time.
-	prev := make([]int, len(b)+1)
-	curr := make([]int, len(b)+1)
-	for j := range prev {
-		prev[j] = j
-	}
-	for i := 1; i <= len(a); i++ {
-		curr[0] = i
-		for j := 1; j <= len(b); j++ {
-			substitution := prev[j-1]
-			if a[i-1] != b[j-1] {
-				substitution++
-			}
-			curr[j] = min(prev[j]+1, curr[j-1]+1, substitution)
-		}
-		prev, curr = curr, prev
-	}
-	return prev[len(b)]
+	return ""
 }

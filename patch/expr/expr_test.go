@@ -301,27 +301,6 @@ func TestUnknownNameWithoutVariables(t *testing.T) {
 	}
 }
 
-func TestEditDistance(t *testing.T) {
-	// Levenshtein distances worked out by hand.
-	tests := []struct {
-		a, b string
-		want int
-	}{
-		{"", "", 0},
-		{"", "abc", 3},
-		{"abc", "", 3},
-		{"ratio", "ratio", 0},
-		{"ratoi", "ratio", 2},
-		{"kitten", "sitting", 3},
-		{"sqr", "sqrt", 1},
-	}
-	for _, tt := range tests {
-		if got := editDistance(tt.a, tt.b); got != tt.want {
-			t.Errorf("editDistance(%q, %q) = %d; want %d", tt.a, tt.b, got, tt.want)
-		}
-	}
-}
-
 func TestSourceLengthLimit(t *testing.T) {
 	// "1+1+...+1 " is exactly maxSourceLen bytes: accepted, and a long
 	// left-associative chain does not count as nesting.
