@@ -33,8 +33,18 @@ fuzz:
 		done; \
 	done
 
-bench:
+# Kernel, encoder and meter benchmarks, then a whole render of the
+# benchmark patch with one and two jobs: wall time and peak RSS.
+bench: build
 	$(GO) test -run '^$$' -bench . -benchmem ./synth/...
+	@for j in 1 2; do \
+		echo "== sinter render testdata/bench-pad.yaml --jobs $$j"; \
+		if [ -x /usr/bin/time ]; then \
+			/usr/bin/time -f "%e s wall, %M KiB peak RSS" ./bin/sinter render testdata/bench-pad.yaml -o out/bench-pad --jobs $$j --quiet; \
+		else \
+			bash -c "time ./bin/sinter render testdata/bench-pad.yaml -o out/bench-pad --jobs $$j --quiet"; \
+		fi; \
+	done
 
 install:
 	$(GO) install ./cmd/sinter

@@ -123,7 +123,7 @@ func (r *Renderer) renderMono(out []float64, n *patch.Note) Stats {
 		r.live = r.live[:0]
 		for i := range r.osc {
 			o := &r.osc[i]
-			if o.env.releaseEnd > float64(b0) {
+			if o.audible(b0) {
 				o.anchor(b0)
 				r.live = append(r.live, i)
 			}
@@ -149,6 +149,24 @@ func phaseFixed(radians float64) uint64 {
 	cycles := radians / (2 * math.Pi)
 	frac := cycles - math.Floor(cycles)
 	return uint64(math.Round(frac*(1<<53))) << 11
+}
+
+// SilenceLevel is the level, as a fraction of full scale before levelling,
+// below which a partial is not computed: −140 dBFS, under the smallest step
+// of a 24-bit file.
+const SilenceLevel = 1e-7
+
+// audible reports whether the partial can reach SilenceLevel in the block
+// starting at b0. After the attack every envelope segment only falls or
+// holds (decay towards sustain, sustain, release towards zero, note-off
+// from wherever the level is), so its level at b0 bounds the whole block.
+func (o *oscillator) audible(b0 int) bool {
+	t := float64(b0)
+	seg := o.env.segment(t)
+	if seg == segAttack {
+		return true
+	}
+	return math.Abs(o.amp)*o.env.levelIn(seg, t) >= SilenceLevel
 }
 
 // anchor seeds the resonator at sample b0 from the exact phase.

@@ -1,0 +1,34 @@
+package synth_test
+
+import (
+	"math"
+	"testing"
+
+	"sinter/patch"
+	"sinter/synth"
+)
+
+// TestSilentSpansCostNothing checks that a partial is not computed once its
+// level stays below synth.SilenceLevel: a struck partial that decays to a
+// sustain of 0 costs its decay, not the length of the file, while the output
+// matches a render in which it never decays (up to the level skipped).
+func TestSilentSpansCostNothing(t *testing.T) {
+	const rate = 48000
+	struck := patch.Note{SampleRate: rate, Channels: 1, Frames: 4 * rate, NoteOff: 3 * rate, F0: 440,
+		Partials: []patch.Partial{{Hz: 440, Amplitude: 0.5, Envelope: patch.Envelope{Attack: 0.001, Decay: 0.5, Sustain: 0, Release: 0.2}}}}
+	buf := make([]float64, synth.Frames(&struck))
+	var r synth.Renderer
+	stats := r.Render(buf, &struck)
+	if stats.Nominal != 4*rate {
+		t.Fatalf("nominal %d, want %d", stats.Nominal, 4*rate)
+	}
+	// The decay lasts 0.501 s; one block of slack either side.
+	if limit := int64(0.501*rate) + 2*synth.BlockFrames; stats.PartialSamples > limit {
+		t.Errorf("computed %d partial-samples for a partial audible for %d", stats.PartialSamples, limit)
+	}
+	for i := int(0.51 * rate); i < len(buf); i++ {
+		if math.Abs(buf[i]) >= synth.SilenceLevel {
+			t.Fatalf("sample %d is %g after the partial fell silent", i, buf[i])
+		}
+	}
+}
