@@ -17,7 +17,7 @@ import (
 
 // Verify reads the set in dir back and checks every file against
 // manifest.json: that it exists, its SHA-256, its format and length, and its
-// smpl and inst metadata; that the mapping file exists; and that no WAV file
+// smpl (root key, loop) and inst (key and velocity range) metadata; that the mapping file exists; and that no WAV file
 // is there that the manifest does not list. The format is read twice, by
 // sinter's own parser and by go-audio/wav's decoder, an independent reader.
 // It returns one line per problem; none means the set is complete.
@@ -78,6 +78,12 @@ func checkFile(data []byte, f manifest.File) []string {
 		problems = append(problems, "has no smpl chunk")
 	} else {
 		mismatch("smpl unity note", int(info.Sampler.UnityNote), f.Key)
+		var got, want []wav.Loop
+		got = info.Sampler.Loops
+		if f.Loop != nil {
+			want = []wav.Loop{{Start: uint32(f.Loop.Start), End: uint32(f.Loop.End)}}
+		}
+		mismatch("smpl loops", fmt.Sprint(got), fmt.Sprint(want))
 	}
 	if info.Instrument == nil {
 		problems = append(problems, "has no inst chunk")
