@@ -207,7 +207,7 @@ func (d *decoder) patch(root *yaml.Node, p *Patch) {
 	p.Hold, p.Tail, p.BandLimit, p.BandFade = defaultHold, defaultTail, defaultBandLim, defaultFade
 	p.Normalize = defaultNormalize()
 	p.RoundRobin, p.Dither = 1, true
-	var keysNode, partialsNode, envelopeNode *yaml.Node
+	var keysNode, partialsNode, envelopeNode, tailNode, holdNode *yaml.Node
 	outputDir := ""
 	d.fields(root, "", topKeys, func(key string, v *yaml.Node, path string) {
 		switch key {
@@ -237,8 +237,10 @@ func (d *decoder) patch(root *yaml.Node, p *Patch) {
 		case "velocities":
 			p.Velocities = d.velocities(v, path)
 		case "hold":
+			holdNode = d.resolve(v)
 			p.Hold, _ = d.ranged(v, path, 0, MaxSeconds, " s")
 		case "tail":
+			tailNode = d.resolve(v)
 			p.Tail, p.TailUntil = d.tail(v, path)
 		case "band_limit":
 			p.BandLimit, _ = d.ranged(v, path, 0.01, 0.5, "")
@@ -269,7 +271,13 @@ func (d *decoder) patch(root *yaml.Node, p *Patch) {
 	if p.TailUntil > 0 {
 		p.Tail = min(p.Tail, MaxSeconds-p.Hold)
 	} else if p.Hold+p.Tail > MaxSeconds {
-		d.errorf(root, "hold", "hold + tail is %g s; a file may last at most %d s", p.Hold+p.Tail, MaxSeconds)
+		// Point at the tail if the patch sets one, else at the hold that
+		// pushed the default tail over the limit.
+		at, path := tailNode, "tail"
+		if at == nil {
+			at, path = holdNode, "hold"
+		}
+		d.errorf(at, path, "hold + tail is %g s; a file may last at most %d s", p.Hold+p.Tail, MaxSeconds)
 	}
 	if p.Name == "" && !hasKey(root, "name") {
 		d.errorf(root, "name", "the patch needs a name (it becomes part of every file name)")

@@ -316,7 +316,7 @@ tail: 300
 partials:
   - harmonics: 8
 `,
-		line: 1, column: 1, path: "hold", msg: "hold + tail is 700 s; a file may last at most 600 s",
+		line: 3, column: 7, path: "tail", msg: "hold + tail is 700 s; a file may last at most 600 s",
 	},
 	{
 		name: "band limit above half the sample rate",
