@@ -2,12 +2,18 @@
 GO ?= go
 EXAMPLES := $(wildcard examples/*.yaml)
 
+# The vector kernels need Go's SIMD experiment (Go 1.26 and later, amd64).
+# Where the toolchain has it, sinter is built with it; the plain build is
+# what `go install` makes, and `make test` tests both.
+SIMD := $(shell GOEXPERIMENT=simd $(GO) list simd/archsimd >/dev/null 2>&1 && echo yes)
+FAST := $(if $(SIMD),GOEXPERIMENT=simd)
+
 .PHONY: all build demo test fuzz bench install clean
 
 all: build
 
 build:
-	$(GO) build -o bin/sinter ./cmd/sinter
+	$(FAST) $(GO) build -o bin/sinter ./cmd/sinter
 
 # Render every example patch into out/<name>.
 demo: build
@@ -18,10 +24,15 @@ demo: build
 		./bin/sinter verify out/$$n || exit 1; \
 	done
 
-# Every test, then a short bounded run of each fuzz target.
+# Every test in the plain build and, where the toolchain has it, the SIMD
+# build; then a short bounded run of each fuzz target.
 test:
 	$(GO) vet ./...
 	$(GO) test ./...
+ifneq ($(SIMD),)
+	GOEXPERIMENT=simd $(GO) vet ./...
+	GOEXPERIMENT=simd $(GO) test ./...
+endif
 	@$(MAKE) --no-print-directory fuzz FUZZTIME=3s
 
 FUZZTIME ?= 60s
@@ -47,7 +58,7 @@ bench: build
 	done
 
 install:
-	$(GO) install ./cmd/sinter
+	$(FAST) $(GO) install ./cmd/sinter
 
 clean:
 	rm -rf bin out

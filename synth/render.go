@@ -42,10 +42,10 @@ type Stats struct {
 type oscillator struct {
 	phase0, inc uint64 // exact phase at sample 0 and per-sample increment
 	// k is 4·sin²(ω/2), the resonator's coefficient in difference form;
-	// halfW is ω/2.
-	k, halfW float64
-	amp      float64
-	env      envelope
+	// sinW and versW are sin ω and 1 − cos ω, which seed its first step.
+	k, sinW, versW float64
+	amp            float64
+	env            envelope
 	// y is the resonator's output and step its last difference,
 	// y[n] − y[n−1], within a block.
 	y, step float64
@@ -56,6 +56,9 @@ type oscillator struct {
 	// starts from, so each control point costs one evaluation.
 	endPos, endSeg int
 	endLevel       float64
+	// corner caches env.nextBreak: the next corner of the envelope after
+	// the samples rendered so far.
+	corner int
 }
 
 // Renderer renders notes, reusing its scratch memory between calls. A
@@ -64,6 +67,8 @@ type Renderer struct {
 	mono []float64
 	osc  []oscillator
 	live []int
+	// lanes holds what the vector kernels need, in builds that have them.
+	lanes laneBank
 	// Scratch for RenderLooped: a retuned copy of the note, and the
 	// continuation rendered after a crossfade loop.
 	tuned         patch.Note
@@ -107,39 +112,64 @@ func (r *Renderer) renderMono(out []float64, n *patch.Note) Stats {
 	r.osc = r.osc[:0]
 	for _, p := range n.Partials {
 		inc := phaseIncrement(p.Hz, n.SampleRate)
-		halfW := float64(inc) * phaseUnit / 2
-		sinHalf := math.Sin(halfW)
+		sinHalf := math.Sin(float64(inc) * phaseUnit / 2)
 		r.osc = append(r.osc, oscillator{
 			phase0: phaseFixed(p.Phase),
-			inc:    inc, k: 4 * sinHalf * sinHalf, halfW: halfW, amp: p.Amplitude,
+			inc:    inc, k: 4 * sinHalf * sinHalf, amp: p.Amplitude,
+			sinW: math.Sin(float64(inc) * phaseUnit), versW: 2 * sinHalf * sinHalf,
 			env:    newEnvelope(p.Envelope, rate, float64(n.NoteOff)),
 			endPos: -1,
 		})
 	}
+	r.lanes.prepare(r.osc)
 	stats := Stats{Nominal: int64(len(n.Partials)) * int64(n.Frames)}
 	frames := len(out)
 	for b0 := 0; b0 < frames; b0 += BlockFrames {
 		b1 := min(b0+BlockFrames, frames)
 		r.live = r.live[:0]
 		for i := range r.osc {
-			o := &r.osc[i]
-			if o.audible(b0) {
-				o.anchor(b0)
+			if r.osc[i].audible(b0) {
 				r.live = append(r.live, i)
 			}
 		}
-		live := r.live
-		for len(live) >= 4 {
-			stats.PartialSamples += 4 * int64(b1-b0)
+		stats.PartialSamples += int64(len(r.live)) * int64(b1-b0)
+		r.renderBlock(out, b0, b1)
+	}
+	return stats
+}
+
+// scalarBlock adds the partials live into out[b0:b1], four at a time
+// where none of the four has a corner of its envelope inside the block.
+// Each partial's envelope thus follows the same control points, every
+// ControlFrames from the block start plus its own corners, whichever
+// partials it is rendered beside and whichever kernel renders it.
+func (r *Renderer) scalarBlock(out []float64, live []int, b0, b1 int) {
+	for _, i := range live {
+		r.osc[i].anchor(b0)
+	}
+	for ; len(live) >= 4; live = live[4:] {
+		if !r.cornerIn(live[:4], b0, b1) {
 			r.block4(out, live[:4], b0, b1)
-			live = live[4:]
+			continue
 		}
-		for _, i := range live {
-			stats.PartialSamples += int64(b1 - b0)
+		for _, i := range live[:4] {
 			r.block1(out, &r.osc[i], b0, b1)
 		}
 	}
-	return stats
+	for _, i := range live {
+		r.block1(out, &r.osc[i], b0, b1)
+	}
+}
+
+// cornerIn reports whether any of the partials idx has a corner of its
+// envelope inside the block [b0, b1).
+func (r *Renderer) cornerIn(idx []int, b0, b1 int) bool {
+	for _, i := range idx {
+		if r.osc[i].nextCorner(b0) < b1 {
+			return true
+		}
+	}
+	return false
 }
 
 // phaseFixed converts radians to the 64-bit phase, at 2^-53 of a cycle: the
@@ -166,15 +196,34 @@ func (o *oscillator) audible(b0 int) bool {
 	if seg == segAttack {
 		return true
 	}
-	return math.Abs(o.amp)*o.env.levelIn(seg, t) >= SilenceLevel
+	return math.Abs(o.amp)*o.levelAt(seg, b0) >= SilenceLevel
+}
+
+// levelAt is the envelope at pos by segment seg's formula, taken from the
+// end of the last span where that is the same point.
+func (o *oscillator) levelAt(seg, pos int) float64 {
+	if o.endPos == pos && o.endSeg == seg {
+		return o.endLevel
+	}
+	return o.env.levelIn(seg, float64(pos))
+}
+
+// nextCorner returns the first sample after pos at which the envelope
+// changes segment. Positions only grow within a render, so a corner still
+// ahead of pos is still the next one.
+func (o *oscillator) nextCorner(pos int) int {
+	if pos >= o.corner {
+		o.corner = o.env.nextBreak(float64(pos))
+	}
+	return o.corner
 }
 
 // anchor seeds the resonator at sample b0 from the exact phase.
 func (o *oscillator) anchor(b0 int) {
-	theta := float64(int64(o.phase0+o.inc*uint64(b0))) * phaseUnit
-	o.y = math.Sin(theta)
+	sin, cos := sinCos(o.phase0 + o.inc*uint64(b0))
+	o.y = sin
 	// sin θ − sin(θ − ω), written so it keeps full precision when ω is small.
-	o.step = 2 * math.Cos(theta-o.halfW) * math.Sin(o.halfW)
+	o.step = cos*o.sinW + sin*o.versW
 }
 
 // phaseIncrement returns the per-sample phase step of hz at rate, rounded to
@@ -208,10 +257,7 @@ func phaseIncrement(hz float64, rate int) uint64 {
 // one envelope segment.
 func (o *oscillator) span(from, to int) {
 	seg := o.env.segment(float64(from))
-	g0 := o.endLevel
-	if o.endPos != from || o.endSeg != seg {
-		g0 = o.env.levelIn(seg, float64(from))
-	}
+	g0 := o.levelAt(seg, from)
 	g1 := o.env.levelIn(seg, float64(to))
 	o.endPos, o.endSeg, o.endLevel = to, seg, g1
 	o.gain = o.amp * g0
@@ -220,14 +266,13 @@ func (o *oscillator) span(from, to int) {
 
 // spanEnd is where the current span starting at pos must stop.
 func (o *oscillator) spanEnd(pos, limit int) int {
-	return min(limit, o.env.nextBreak(float64(pos)))
+	return min(limit, o.nextCorner(pos))
 }
 
 func (r *Renderer) block4(out []float64, idx []int, b0, b1 int) {
 	p0, p1, p2, p3 := &r.osc[idx[0]], &r.osc[idx[1]], &r.osc[idx[2]], &r.osc[idx[3]]
 	for pos := b0; pos < b1; {
 		end := min(b1, pos+ControlFrames)
-		end = p3.spanEnd(pos, p2.spanEnd(pos, p1.spanEnd(pos, p0.spanEnd(pos, end))))
 		p0.span(pos, end)
 		p1.span(pos, end)
 		p2.span(pos, end)
@@ -289,7 +334,11 @@ func kernel1(out []float64, o *oscillator) {
 func Peak(buf []float64) float64 {
 	peak := 0.0
 	for _, v := range buf {
-		peak = max(peak, math.Abs(v))
+		// A comparison, not the max builtin, whose handling of NaN and
+		// signed zeros costs several times as much.
+		if a := math.Abs(v); a > peak {
+			peak = a
+		}
 	}
 	return peak
 }

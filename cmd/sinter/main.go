@@ -16,6 +16,7 @@ import (
 	"syscall"
 
 	"sinter/patch"
+	"sinter/synth"
 	"sinter/synth/sampleset"
 )
 
@@ -42,7 +43,7 @@ Usage:
   sinter help
       Print this text.
   sinter --version
-      Print the version.
+      Print the version and the oscillator kernel this build runs.
 
 LIST is a comma-separated list of keys and ranges: C4,E4 or 60-72 or C4-C5.
 
@@ -63,7 +64,7 @@ func run(args []string, stdout, stderr io.Writer) int {
 		fmt.Fprint(stdout, usage)
 		return exitOK
 	case "version", "-version", "--version":
-		fmt.Fprintf(stdout, "sinter %s\n", version)
+		fmt.Fprintf(stdout, "sinter %s (%s kernel)\n", version, synth.Kernel())
 		return exitOK
 	case "render":
 		return render(args[1:], stdout, stderr)

@@ -1,0 +1,107 @@
+#!/usr/bin/env python3
+"""A hand-written numpy renderer of testdata/bench-pad.yaml, for `make bench`.
+
+It renders the same 48 files sinter renders from that patch -- 12 keys from
+C2 to A4 in steps of 3 semitones, velocity layers 80 and 120, 2 round robins
+with random phases, 4 s at 48 kHz, harmonics 1..64 of the 12-TET fundamental
+at amplitude (velocity/127)/n, dropped at 0.45 fs and faded by a raised cosine
+over the 10 % below it, the patch's ADSR, one peak gain for the set to
+-1 dBFS, TPDF dither and 24-bit PCM WAV -- so `make bench` can time both side
+by side. It is written the fastest way found for numpy: blocks of 1024 samples,
+the phase of every partial as one outer product per block, the envelope taken
+at the block edges and ramped across the block by another outer product, and
+the partials summed with a matrix-vector product. Everything stays in
+memory, as a numpy script would do it. Keep it in step with the patch.
+
+usage: numpy-peer.py OUTPUT_DIR
+"""
+import os
+import sys
+import wave
+
+import numpy as np
+
+RATE = 48000
+FRAMES = 4 * RATE
+HOLD = 3 * RATE  # note-off sample
+KEYS = range(36, 72, 3)  # C2 .. A4
+VELOCITIES = (80, 120)
+ROUND_ROBINS = 2
+HARMONICS = 64
+LIMIT = 0.45 * RATE
+FADE_FROM = LIMIT * 0.9
+ATTACK, DECAY, SUSTAIN, RELEASE = 0.2 * RATE, 0.5 * RATE, 0.7, 0.8 * RATE
+BLOCK = 1024
+DEPTH = np.log(1000.0)
+FLOOR = np.exp(-DEPTH)
+
+
+def curve(u):
+    return (np.exp(-DEPTH * u) - FLOOR) / (1 - FLOOR)
+
+
+def envelope(t):
+    """The patch's ADSR at sample positions t (an array)."""
+    held = np.where(
+        t < ATTACK,
+        t / ATTACK,
+        np.where(t < ATTACK + DECAY,
+                 SUSTAIN + (1 - SUSTAIN) * curve(np.clip((t - ATTACK) / DECAY, 0, 1)),
+                 SUSTAIN))
+    off = SUSTAIN  # the attack and decay are over before the note-off
+    rel = off * curve(np.clip((t - HOLD) / RELEASE, 0, 1))
+    return np.where(t < HOLD, held, np.where(t < HOLD + RELEASE, rel, 0.0))
+
+
+def render(key, velocity, rng):
+    f0 = 440.0 * 2 ** ((key - 69) / 12)
+    n = np.arange(1, HARMONICS + 1)
+    hz = f0 * n
+    keep = hz < LIMIT
+    n, hz = n[keep], hz[keep]
+    fade = np.where(hz > FADE_FROM, 0.5 + 0.5 * np.cos(np.pi * (hz - FADE_FROM) / (LIMIT - FADE_FROM)), 1.0)
+    amp = velocity / 127 / n * fade
+    phase = rng.uniform(0, 2 * np.pi, len(hz))
+    w = 2 * np.pi * hz / RATE
+    j = np.arange(BLOCK)
+    ramp = j / BLOCK
+    out = np.empty(FRAMES)
+    for b0 in range(0, FRAMES, BLOCK):
+        m = min(BLOCK, FRAMES - b0)
+        e0, e1 = envelope(np.array([b0, b0 + BLOCK], dtype=float))
+        gain = e0 + (e1 - e0) * ramp[:m]  # the same ramp for every partial
+        theta = np.outer(w, j[:m] + b0)
+        theta += phase[:, None]
+        out[b0:b0 + m] = (amp @ np.sin(theta)) * gain
+    return out
+
+
+def write24(path, x, rng):
+    lsb = 2.0 ** 23
+    dither = rng.random(len(x)) - rng.random(len(x))
+    q = np.clip(np.round(x * (lsb - 1) + dither), -lsb, lsb - 1).astype('<i4')
+    packed = q.view(np.uint8).reshape(-1, 4)[:, :3].tobytes()
+    with wave.open(path, 'wb') as f:
+        f.setnchannels(1)
+        f.setsampwidth(3)
+        f.setframerate(RATE)
+        f.writeframes(packed)
+
+
+def main():
+    out_dir = sys.argv[1]
+    os.makedirs(out_dir, exist_ok=True)
+    rng = np.random.default_rng(1)
+    notes = []
+    for key in KEYS:
+        for vel in VELOCITIES:
+            for rr in range(ROUND_ROBINS):
+                notes.append((f"bench-pad_{key}_v{vel}_rr{rr + 1}.wav", render(key, vel, rng)))
+    peak = max(np.abs(x).max() for _, x in notes)
+    gain = 10 ** (-1 / 20) / peak
+    for name, x in notes:
+        write24(os.path.join(out_dir, name), x * gain, rng)
+
+
+if __name__ == '__main__':
+    main()
