@@ -48,7 +48,11 @@
 // of its amplitude with oversampling L. Because the samples themselves
 // are points of the grid, the reading is never below the sample peak. The
 // signal is taken as zero outside the buffer, so a buffer that starts or
-// stops abruptly reads the ringing of that edge.
+// stops abruptly reads the ringing of that edge. Built with
+// GOEXPERIMENT=simd on a processor with AVX-512, the 4× interpolator runs
+// eight intervals per vector (truepeak_simd.go); it adds the same products
+// in another order, so its readings agree with the plain build's to
+// within 1e-14.
 package loudness
 
 import "math"

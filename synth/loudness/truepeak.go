@@ -96,14 +96,18 @@ func (m *Meter) TruePeak(samples []float64) float64 {
 			from := first - channelPad
 			chunk := m.chunk[:min(chunkFrames, frames-first)+2*channelPad]
 			clear(chunk)
-			for f := max(from, 0); f < min(from+len(chunk), frames); f++ {
-				chunk[f-from] = samples[f*m.channels+c]
-			}
-			doubled := double(m.doubled, chunk)
-			if m.oversampling == 2 {
-				peak = max(peak, peakMagnitude(doubled))
+			lo, hi := max(from, 0), min(from+len(chunk), frames)
+			if m.channels == 1 {
+				copy(chunk[lo-from:], samples[lo:hi])
 			} else {
-				peak = max(peak, peakWithMidpoints(doubled))
+				for f := lo; f < hi; f++ {
+					chunk[f-from] = samples[f*m.channels+c]
+				}
+			}
+			if m.oversampling == 2 {
+				peak = max(peak, peakMagnitude(double(m.doubled, chunk)))
+			} else {
+				peak = max(peak, m.quadruplePeak(chunk))
 			}
 		}
 	}
