@@ -32,3 +32,37 @@ func TestSilentSpansCostNothing(t *testing.T) {
 		}
 	}
 }
+
+// TestWorkMatchesRender: synth.Work, which only evaluates envelopes,
+// counts exactly the partial-samples Render computes.
+func TestWorkMatchesRender(t *testing.T) {
+	const rate = 48000
+	env := func(a, d, s, r float64) patch.Envelope {
+		return patch.Envelope{Attack: a, Decay: d, Sustain: s, Release: r}
+	}
+	notes := []patch.Note{
+		{SampleRate: rate, Channels: 1, Frames: 4 * rate, NoteOff: 3 * rate},
+		{SampleRate: rate, Channels: 2, Frames: rate + 77, NoteOff: rate / 2},
+		{SampleRate: 44100, Channels: 1, Frames: 10 * 44100, NoteOff: 44100},
+	}
+	for i := range notes {
+		for h := 1; h <= 40; h++ {
+			notes[i].Partials = append(notes[i].Partials, patch.Partial{
+				Hz: 55 * float64(h), Amplitude: 1 / float64(h*h*h),
+				Envelope: env(0.001*float64(h), 2/float64(h), float64(i%2)*0.3/float64(h), 0.05*float64(i+1)),
+			})
+		}
+	}
+	var r synth.Renderer
+	for i := range notes {
+		n := &notes[i]
+		got := synth.Work(n)
+		want := r.Render(make([]float64, synth.Frames(n)), n)
+		if got != want {
+			t.Errorf("note %d: Work %+v, Render %+v", i, got, want)
+		}
+		if got.PartialSamples >= got.Nominal {
+			t.Errorf("note %d: nothing skipped (%+v); the case does not test culling", i, got)
+		}
+	}
+}

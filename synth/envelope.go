@@ -16,10 +16,6 @@ var (
 	curveFloor = math.Exp(-curveDepth)
 )
 
-func curve(u float64) float64 {
-	return (math.Exp(-curveDepth*u) - curveFloor) / (1 - curveFloor)
-}
-
 // Envelope segments.
 const (
 	segAttack = iota
@@ -72,7 +68,7 @@ func (e *envelope) held(t float64) float64 {
 	case t < e.attack:
 		return t / e.attack
 	case t < e.decayEnd:
-		return e.sustain + (1-e.sustain)*curve((t-e.attack)/(e.decayEnd-e.attack))
+		return e.levelIn(segDecay, t)
 	}
 	return e.sustain
 }
@@ -84,13 +80,24 @@ func (e *envelope) levelIn(seg int, t float64) float64 {
 	case segAttack:
 		return t / e.attack
 	case segDecay:
-		return e.sustain + (1-e.sustain)*curve((t-e.attack)/(e.decayEnd-e.attack))
+		return e.fromExp(seg, math.Exp(-curveDepth*(t-e.attack)/(e.decayEnd-e.attack)))
 	case segSustain:
 		return e.sustain
 	case segRelease:
-		return e.offLevel * curve((t-e.noteOff)/(e.releaseEnd-e.noteOff))
+		return e.fromExp(seg, math.Exp(-curveDepth*(t-e.noteOff)/(e.releaseEnd-e.noteOff)))
 	}
 	return 0
+}
+
+// fromExp is the level of a decay or release whose exponential
+// e^(−k·u) is x, so code that steps the exponential by multiplication
+// meets levelIn bit for bit where it takes the exponential exactly.
+func (e *envelope) fromExp(seg int, x float64) float64 {
+	c := (x - curveFloor) / (1 - curveFloor)
+	if seg == segDecay {
+		return e.sustain + (1-e.sustain)*c
+	}
+	return e.offLevel * c
 }
 
 // nextBreak returns the first whole sample after t at which the segment

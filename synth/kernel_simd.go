@@ -48,39 +48,29 @@ type laneTable struct {
 }
 
 // laneJob is what the scalar pass hands the vector pass for one partial
-// in one block: sin θ, cos θ, and amplitude × envelope at the five control
-// points 0, 64, …, 256 samples into the block.
+// in one block: sin θ and cos θ of its phase at the block start, and
+// amplitude × envelope at the control points 0, ControlFrames, … ,
+// BlockFrames into the block. levels has room for a whole vector loaded
+// at any control point.
 type laneJob struct {
-	params [vectorLanes]float64
-	table  *laneTable
+	anchor [vectorLanes]float64 // sin θ, cos θ, then unused
+	levels [spansPerBlock + vectorLanes]float64
+	table  int // index into laneBank.tables
 }
 
 // laneBank is the vector state of a Renderer.
 type laneBank struct {
 	tables []laneTable
-	jobs   []laneJob
-	rest   []int // live partials the block leaves to the scalar path
+	jobs   []laneJob // room for every partial; a block uses the first few
+	rest   []int     // live partials the block leaves to the scalar path
 }
-
-// Indexes into laneJob.params.
-const (
-	paramSin = iota
-	paramCos
-	paramLevel // paramLevel+m is the level at control point m
-)
 
 // Constant vectors of the vector pass, loaded rather than built from
 // scalars so that pass stays free of scalar float instructions.
 var (
-	// broadcast[i] picks params[i] into every lane.
-	broadcast = func() (b [paramLevel + spansPerBlock + 1][vectorLanes]uint64) {
-		for i := range b {
-			for j := range b[i] {
-				b[i][j] = uint64(i)
-			}
-		}
-		return b
-	}()
+	// pickFirst and pickSecond broadcast lane 0 or lane 1 to every lane.
+	pickFirst  = [vectorLanes]uint64{}
+	pickSecond = [vectorLanes]uint64{1, 1, 1, 1, 1, 1, 1, 1}
 	// rampFrom and rampTo weight a span's start and end levels for lane j
 	// (1 − j/64 and j/64); rampStep is the fraction of a span one vector
 	// step covers.
@@ -102,6 +92,10 @@ func (l *laneBank) prepare(osc []oscillator) {
 		l.tables = make([]laneTable, len(osc))
 	}
 	l.tables = l.tables[:len(osc)]
+	if cap(l.jobs) < len(osc) {
+		l.jobs = make([]laneJob, len(osc))
+	}
+	l.jobs = l.jobs[:len(osc)]
 	for i := range osc {
 		t, inc := &l.tables[i], osc[i].inc
 		sin4, _ := sinCos(4 * inc)
@@ -125,7 +119,8 @@ func (r *Renderer) renderBlock(out []float64, b0, b1 int) {
 		return
 	}
 	l := &r.lanes
-	l.jobs, l.rest = l.jobs[:0], l.rest[:0]
+	l.rest = l.rest[:0]
+	jobs := 0
 	for _, i := range r.live {
 		o := &r.osc[i]
 		if o.nextCorner(b0) < b1 {
@@ -134,17 +129,19 @@ func (r *Renderer) renderBlock(out []float64, b0, b1 int) {
 			l.rest = append(l.rest, i)
 			continue
 		}
-		l.jobs = append(l.jobs, laneJob{table: &l.tables[i]})
-		o.laneParams(&l.jobs[len(l.jobs)-1], b0)
+		job := &l.jobs[jobs]
+		jobs++
+		job.table = i
+		o.laneParams(job, b0, &l.tables[i])
 	}
 	block := (*[BlockFrames]float64)(out[b0:b1])
-	jobs := l.jobs
-	for len(jobs) >= 2 {
-		vectorPair(block, &jobs[0], &jobs[1])
-		jobs = jobs[2:]
+	for j := 0; j+1 < jobs; j += 2 {
+		a, b := &l.jobs[j], &l.jobs[j+1]
+		vectorPair(block, a, &l.tables[a.table], b, &l.tables[b.table])
 	}
-	if len(jobs) == 1 {
-		vectorPair(block, &jobs[0], nil)
+	if jobs%2 == 1 {
+		a := &l.jobs[jobs-1]
+		vectorPair(block, a, &l.tables[a.table], a, &l.tables[a.table])
 	}
 	archsimd.ClearAVXUpperBits()
 	r.scalarBlock(out, l.rest, b0, b1)
@@ -153,55 +150,55 @@ func (r *Renderer) renderBlock(out []float64, b0, b1 int) {
 // laneParams fills the scalar pass's part of job for the block at b0,
 // which lies in one envelope segment. In a decay or release it takes one
 // exponential, at the block's end, and steps it back to the inner control
-// points: three multiplications, a few units in the last place.
-func (o *oscillator) laneParams(job *laneJob, b0 int) {
-	p := &job.params
-	p[paramSin], p[paramCos] = sinCos(o.phase0 + o.inc*uint64(b0))
+// points, one multiplication each, which keeps every level within a few
+// units in the last place of the exact curve.
+func (o *oscillator) laneParams(job *laneJob, b0 int, t *laneTable) {
+	job.anchor[0], job.anchor[1] = o.phaseAt(b0)
 	e := &o.env
 	seg := e.segment(float64(b0))
-	p[paramLevel] = o.amp * o.levelAt(seg, b0)
+	lv := &job.levels
+	lv[0] = o.amp * o.levelAt(seg, b0)
 	end := b0 + BlockFrames
-	var back, scale, offset float64
-	var exp float64
+	var exp, back float64
 	switch seg {
 	case segDecay:
-		u := (float64(end) - e.attack) / (e.decayEnd - e.attack)
-		exp, back = math.Exp(-curveDepth*u), job.table.decayBack
-		scale, offset = (1-e.sustain)/(1-curveFloor), e.sustain
+		exp, back = math.Exp(-curveDepth*(float64(end)-e.attack)/(e.decayEnd-e.attack)), t.decayBack
 	case segRelease:
-		u := (float64(end) - e.noteOff) / (e.releaseEnd - e.noteOff)
-		exp, back = math.Exp(-curveDepth*u), job.table.releaseBack
-		scale, offset = e.offLevel/(1-curveFloor), 0
+		exp, back = math.Exp(-curveDepth*(float64(end)-e.noteOff)/(e.releaseEnd-e.noteOff)), t.releaseBack
 	default:
 		for m := 1; m <= spansPerBlock; m++ {
-			p[paramLevel+m] = o.amp * e.levelIn(seg, float64(b0+m*ControlFrames))
+			lv[m] = o.amp * e.levelIn(seg, float64(b0+m*ControlFrames))
 		}
 		o.endPos, o.endSeg, o.endLevel = end, seg, e.levelIn(seg, float64(end))
 		return
 	}
-	level := offset + scale*(exp-curveFloor)
-	o.endPos, o.endSeg, o.endLevel = end, seg, level
+	// The end level, which the next block starts from, is levelIn's to
+	// the bit.
+	o.endPos, o.endSeg, o.endLevel = end, seg, e.fromExp(seg, exp)
 	for m := spansPerBlock; m >= 1; m-- {
-		p[paramLevel+m] = o.amp * (offset + scale*(exp-curveFloor))
+		lv[m] = o.amp * e.fromExp(seg, exp)
 		exp *= back
 	}
 }
 
-// vectorPair adds one block of partials a and b (b may be nil) into block.
-func vectorPair(block *[BlockFrames]float64, a, b *laneJob) {
-	ya, sa, ka, pa := seedLanes(a)
-	var yb, sb, kb, pb archsimd.Float64x8
-	if b != nil {
-		yb, sb, kb, pb = seedLanes(b)
-	}
+// vectorPair adds one block of partials a and b into block. Given the
+// same job twice it adds that partial once: the second copy runs at zero
+// gain, which costs the same as a kernel for one.
+func vectorPair(block *[BlockFrames]float64, a *laneJob, ta *laneTable, b *laneJob, tb *laneTable) {
+	ya, sa, ka := seedLanes(a, ta)
+	yb, sb, kb := seedLanes(b, tb)
 	from := archsimd.LoadFloat64x8(&rampFrom)
 	to := archsimd.LoadFloat64x8(&rampTo)
 	step := archsimd.LoadFloat64x8(&rampStep)
+	first := archsimd.LoadUint64x8(&pickFirst)
+	second := archsimd.LoadUint64x8(&pickSecond)
+	var zero archsimd.Float64x8
 	for m := range spansPerBlock {
-		lo := archsimd.LoadUint64x8(&broadcast[paramLevel+m])
-		hi := archsimd.LoadUint64x8(&broadcast[paramLevel+m+1])
-		ga, da := ramp(pa, lo, hi, from, to, step)
-		gb, db := ramp(pb, lo, hi, from, to, step)
+		ga, da := ramp(archsimd.LoadFloat64x8Slice(a.levels[m:]), first, second, from, to, step)
+		gb, db := ramp(archsimd.LoadFloat64x8Slice(b.levels[m:]), first, second, from, to, step)
+		if a == b {
+			gb, db = zero, zero
+		}
 		span := block[m*ControlFrames : (m+1)*ControlFrames]
 		for v := 0; v < ControlFrames; v += vectorLanes {
 			dst := (*[vectorLanes]float64)(span[v : v+vectorLanes])
@@ -219,20 +216,19 @@ func vectorPair(block *[BlockFrames]float64, a, b *laneJob) {
 }
 
 // seedLanes returns the lanes' values and first differences at the block
-// start, the recurrence coefficient and the job's parameters as a vector.
-func seedLanes(j *laneJob) (y, s, negK, params archsimd.Float64x8) {
-	params = archsimd.LoadFloat64x8(&j.params)
-	sin := params.Permute(archsimd.LoadUint64x8(&broadcast[paramSin]))
-	cos := params.Permute(archsimd.LoadUint64x8(&broadcast[paramCos]))
-	t := j.table
+// start, and the recurrence coefficient.
+func seedLanes(j *laneJob, t *laneTable) (y, s, negK archsimd.Float64x8) {
+	anchor := archsimd.LoadFloat64x8(&j.anchor)
+	sin := anchor.Permute(archsimd.LoadUint64x8(&pickFirst))
+	cos := anchor.Permute(archsimd.LoadUint64x8(&pickSecond))
 	y = sin.MulAdd(archsimd.LoadFloat64x8(&t.cos), cos.Mul(archsimd.LoadFloat64x8(&t.sin)))
 	s = sin.MulAdd(archsimd.LoadFloat64x8(&t.stepCos), cos.Mul(archsimd.LoadFloat64x8(&t.stepSin)))
-	return y, s, archsimd.LoadFloat64x8(&t.negK), params
+	return y, s, archsimd.LoadFloat64x8(&t.negK)
 }
 
-// ramp returns a span's gain lanes, from the levels that lo and hi pick
-// out of params, and their change per vector step.
-func ramp(params archsimd.Float64x8, lo, hi archsimd.Uint64x8, from, to, step archsimd.Float64x8) (gain, delta archsimd.Float64x8) {
-	l, h := params.Permute(lo), params.Permute(hi)
+// ramp returns a span's gain lanes, from the levels at its start and end
+// (lanes 0 and 1 of levels), and their change per vector step.
+func ramp(levels archsimd.Float64x8, first, second archsimd.Uint64x8, from, to, step archsimd.Float64x8) (gain, delta archsimd.Float64x8) {
+	l, h := levels.Permute(first), levels.Permute(second)
 	return l.MulAdd(from, h.Mul(to)), h.Sub(l).Mul(step)
 }

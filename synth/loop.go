@@ -146,7 +146,8 @@ func (r *Renderer) RenderLooped(dst []float64, n *patch.Note, loop Loop) Stats {
 	}
 	ch := n.Channels
 	// The continuation: the same note released one loop earlier, read from
-	// Start, lands its release at the original note-off frame.
+	// Start, lands its release at the original note-off frame. Only the
+	// part from Start on is rendered.
 	cont := *n
 	cont.NoteOff -= loop.Frames()
 	cont.Frames -= loop.Frames()
@@ -154,8 +155,9 @@ func (r *Renderer) RenderLooped(dst []float64, n *patch.Note, loop Loop) Stats {
 		r.continuation = make([]float64, Frames(&cont))
 	}
 	after := r.continuation[:Frames(&cont)]
-	more := r.Render(after, &cont)
+	more := r.renderFrom(after, &cont, loop.Start)
 	stats.PartialSamples += more.PartialSamples
+	stats.Nominal += more.Nominal
 
 	x := loop.Crossfade
 	fadeOut, fadeIn := (loop.End-x+1)*ch, (loop.Start-x)*ch

@@ -59,7 +59,16 @@ type oscillator struct {
 	// corner caches env.nextBreak: the next corner of the envelope after
 	// the samples rendered so far.
 	corner int
+	// anchorPos is the block start whose phase anchorSin and anchorCos
+	// hold; turnSin and turnCos rotate it by one block.
+	anchorPos                              int
+	anchorSin, anchorCos, turnSin, turnCos float64
 }
+
+// exactEvery is how many blocks may follow each other by rotation before
+// an anchor is taken from the exact phase again: each rotation can add a
+// unit in the last place or two, so the phase stays within 1e-14.
+const exactEvery = 16
 
 // Renderer renders notes, reusing its scratch memory between calls. A
 // Renderer is not safe for concurrent use; give each goroutine its own.
@@ -83,6 +92,13 @@ func Frames(n *patch.Note) int { return n.Frames * n.Channels }
 // before any levelling gain. dst must hold Frames(n) values; it is
 // overwritten.
 func (r *Renderer) Render(dst []float64, n *patch.Note) Stats {
+	return r.renderFrom(dst, n, 0)
+}
+
+// renderFrom is Render from the block holding frame from on; the frames
+// before that block are left at zero. Since every block starts from the
+// exact phase, starting late costs nothing and changes no sample.
+func (r *Renderer) renderFrom(dst []float64, n *patch.Note, from int) Stats {
 	if len(dst) != Frames(n) {
 		panic("synth: Render destination has the wrong length")
 	}
@@ -94,7 +110,7 @@ func (r *Renderer) Render(dst []float64, n *patch.Note) Stats {
 		mono = r.mono[:n.Frames]
 	}
 	clear(mono)
-	stats := r.renderMono(mono, n)
+	stats := r.renderMono(mono, n, from/BlockFrames*BlockFrames)
 	if n.Channels > 1 {
 		// Partials have no position in the field yet, so every channel
 		// carries the same signal.
@@ -107,7 +123,7 @@ func (r *Renderer) Render(dst []float64, n *patch.Note) Stats {
 	return stats
 }
 
-func (r *Renderer) renderMono(out []float64, n *patch.Note) Stats {
+func (r *Renderer) renderMono(out []float64, n *patch.Note, first int) Stats {
 	rate := float64(n.SampleRate)
 	r.osc = r.osc[:0]
 	for _, p := range n.Partials {
@@ -117,14 +133,19 @@ func (r *Renderer) renderMono(out []float64, n *patch.Note) Stats {
 			phase0: phaseFixed(p.Phase),
 			inc:    inc, k: 4 * sinHalf * sinHalf, amp: p.Amplitude,
 			sinW: math.Sin(float64(inc) * phaseUnit), versW: 2 * sinHalf * sinHalf,
-			env:    newEnvelope(p.Envelope, rate, float64(n.NoteOff)),
-			endPos: -1,
+			anchorPos: math.MinInt,
+			env:       newEnvelope(p.Envelope, rate, float64(n.NoteOff)),
+			endPos:    -1,
 		})
 	}
+	for i := range r.osc {
+		o := &r.osc[i]
+		o.turnSin, o.turnCos = sinCos(o.inc * BlockFrames)
+	}
 	r.lanes.prepare(r.osc)
-	stats := Stats{Nominal: int64(len(n.Partials)) * int64(n.Frames)}
 	frames := len(out)
-	for b0 := 0; b0 < frames; b0 += BlockFrames {
+	stats := Stats{Nominal: int64(len(n.Partials)) * int64(max(0, frames-first))}
+	for b0 := first; b0 < frames; b0 += BlockFrames {
 		b1 := min(b0+BlockFrames, frames)
 		r.live = r.live[:0]
 		for i := range r.osc {
@@ -220,10 +241,26 @@ func (o *oscillator) nextCorner(pos int) int {
 
 // anchor seeds the resonator at sample b0 from the exact phase.
 func (o *oscillator) anchor(b0 int) {
-	sin, cos := sinCos(o.phase0 + o.inc*uint64(b0))
+	sin, cos := o.phaseAt(b0)
 	o.y = sin
 	// sin θ − sin(θ − ω), written so it keeps full precision when ω is small.
 	o.step = cos*o.sinW + sin*o.versW
+}
+
+// phaseAt returns sin and cos of the oscillator's phase at block start b0:
+// the block before it turned by one block where that block was anchored
+// too, which takes four multiplications, else from the exact phase, which
+// takes a table look-up and two series, and always at every exactEvery-th
+// block, so rounding cannot build up.
+func (o *oscillator) phaseAt(b0 int) (sin, cos float64) {
+	if b0 == o.anchorPos+BlockFrames && b0%(exactEvery*BlockFrames) != 0 {
+		s, c := o.anchorSin, o.anchorCos
+		sin, cos = s*o.turnCos+c*o.turnSin, c*o.turnCos-s*o.turnSin
+	} else {
+		sin, cos = sinCos(o.phase0 + o.inc*uint64(b0))
+	}
+	o.anchorPos, o.anchorSin, o.anchorCos = b0, sin, cos
+	return sin, cos
 }
 
 // phaseIncrement returns the per-sample phase step of hz at rate, rounded to
