@@ -39,18 +39,42 @@ type Options struct {
 type Result struct {
 	Dir      string
 	Manifest *manifest.Manifest
-	Stats    synth.Stats
-	Warnings []string
+	// Stats is the oscillator work of one render of every note.
+	Stats synth.Stats
+	// Rerendered counts the notes rendered a second time because their
+	// levelling gain was only known after the whole set was measured and
+	// reading them back would have cost more than rendering them again.
+	Rerendered int
+	Warnings   []string
 }
 
 // silentDBFS stands for the level of a file with no signal, which has no
 // finite value in decibels.
 const silentDBFS = -200.0
 
-// Build renders plan into plan.OutputDir. Levelling needs the level of
-// every file before the first is written, so every note is rendered twice:
-// once to measure, once to write. That keeps memory to one note per job
-// however large the set is.
+// spillPartials is the average number of partials computed per sample at
+// which a measured note is kept on disk for the second pass rather than
+// rendered again. Writing and reading back 8 bytes a sample cost about
+// 4 ns a sample on the machine the figures in the README come from; the
+// vector kernel computes 20 partials in about that time, the plain one 5.
+// Either way the second pass gets the same bits.
+var spillPartials = func() int64 {
+	if synth.Kernel() == "plain" {
+		return 5
+	}
+	return 20
+}()
+
+// Build renders plan into plan.OutputDir.
+//
+// Levelling with one gain for the set (or per key) needs the level of
+// every file before the first is written, so such a build runs in two
+// passes: the first renders and measures each note and, when the note is
+// dense enough, keeps its samples in a file in the staging folder; the
+// second reads them back (or renders the note again), applies the gain
+// and writes the WAV file. Without levelling, or with a gain per file,
+// each note is rendered, measured and written in one pass. Either way
+// memory holds one note per job however large the set is.
 func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error) {
 	dir := plan.OutputDir
 	if err := checkReplaceable(dir); err != nil {
@@ -59,30 +83,15 @@ func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error)
 	jobs := max(1, opts.Jobs)
 	notes := plan.Notes
 	res := &Result{Dir: dir}
-	loops := make([]synth.Loop, len(notes))
-	looped := make([]bool, len(notes))
+	b := &build{plan: plan, opts: opts,
+		loops: make([]synth.Loop, len(notes)), looped: make([]bool, len(notes)),
+		gains: make([]float64, len(notes)), stats: make([]synth.Stats, len(notes)),
+		clipped: make([]bool, len(notes)), warnings: make([][]string, len(notes)),
+	}
 	for i := range notes {
-		loops[i], looped[i] = synth.PlanLoop(&notes[i])
+		b.loops[i], b.looped[i] = synth.PlanLoop(&notes[i])
+		b.gains[i] = 1
 	}
-
-	measured := make([]levels, len(notes))
-	if plan.Normalize.Measure != patch.MeasureOff {
-		truePeak, loudness := needs(plan.Normalize)
-		err := forEach(ctx, jobs, len(notes), func(w *worker, i int) error {
-			buf := w.render(&notes[i], loops[i])
-			measured[i] = w.measure(buf, &notes[i], truePeak, loudness)
-			return nil
-		})
-		if err != nil {
-			return nil, err
-		}
-	}
-	gains, warnings, err := levelGains(plan.Normalize, notes, measured)
-	if err != nil {
-		return nil, err
-	}
-	res.Warnings = append(res.Warnings, warnings...)
-
 	if err := os.MkdirAll(filepath.Dir(dir), 0o755); err != nil {
 		return nil, fmt.Errorf("cannot create the output folder's parent: %w", err)
 	}
@@ -91,63 +100,46 @@ func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error)
 		return nil, fmt.Errorf("cannot create a staging folder beside %s: %w", dir, err)
 	}
 	defer os.RemoveAll(staging) // after a successful swap it no longer exists
-
-	m := &manifest.Manifest{
+	b.staging = staging
+	b.manifest = &manifest.Manifest{
 		Sinter:    opts.Version,
 		Patch:     manifest.Patch{Name: plan.Name, SHA256: plan.PatchSHA256},
 		Levelling: plan.Normalize.String(),
 		Mapping:   plan.Name + ".sfz",
 		Files:     make([]manifest.File, len(notes)),
 	}
-	stats := make([]synth.Stats, len(notes))
-	clipped := make([]bool, len(notes))
-	var progressMu sync.Mutex
-	done := 0
-	err = forEach(ctx, jobs, len(notes), func(w *worker, i int) error {
-		n := &notes[i]
-		buf := w.render(n, loops[i])
-		stats[i] = w.stats
-		synth.Scale(buf, gains[i])
-		frames := n.Frames
-		if n.TailUntil > 0 {
-			notBefore := n.NoteOff
-			if looped[i] {
-				notBefore = max(notBefore, loops[i].End+1)
+
+	norm := plan.Normalize
+	if norm.Measure == patch.MeasureOff || norm.Scope == patch.ScopeFile {
+		err = forEach(ctx, jobs, len(notes), func(w *worker, i int) error {
+			buf := b.render(w, i)
+			if norm.Measure != patch.MeasureOff {
+				truePeak, loudness := needs(norm)
+				lv := []levels{w.measure(buf, &notes[i], truePeak, loudness)}
+				gains, warnings, err := levelGains(norm, notes[i:i+1], lv)
+				if err != nil {
+					return err
+				}
+				b.gains[i], b.warnings[i] = gains[0], warnings
 			}
-			frames = synth.TrimTail(buf, n.Channels, n.SampleRate, n.TailUntil, notBefore)
-			buf = buf[:frames*n.Channels]
-		}
-		lv := w.measure(buf, n, true, true)
-		clipped[i] = lv.peak > 1 && plan.BitDepth != 32
-		var loop *synth.Loop
-		if looped[i] {
-			loop = &loops[i]
-		}
-		sum, err := writeWAV(filepath.Join(staging, n.File), buf, n, plan, loop)
-		if err != nil {
-			return err
-		}
-		m.Files[i] = manifestEntry(n, plan.BitDepth, frames, gains[i], lv, buf, loop)
-		m.Files[i].SHA256 = sum
-		if opts.Progress != nil {
-			progressMu.Lock()
-			done++
-			opts.Progress(done, len(notes), n.File)
-			progressMu.Unlock()
-		}
-		return nil
-	})
+			return b.finish(w, i, buf)
+		})
+	} else {
+		err = b.twoPasses(ctx, jobs, res)
+	}
 	if err != nil {
 		return nil, err
 	}
-	for i, s := range stats {
+	for i, s := range b.stats {
 		res.Stats.PartialSamples += s.PartialSamples
 		res.Stats.Nominal += s.Nominal
-		if clipped[i] {
+		res.Warnings = append(res.Warnings, b.warnings[i]...)
+		if b.clipped[i] {
 			res.Warnings = append(res.Warnings, fmt.Sprintf("%s clips: its peak is above full scale (normalize is off)", notes[i].File))
 		}
 	}
-	if err := writeMapping(filepath.Join(staging, m.Mapping), notes, loops, looped, plan.Name); err != nil {
+	m := b.manifest
+	if err := writeMapping(filepath.Join(staging, m.Mapping), notes, b.loops, b.looped, plan.Name); err != nil {
 		return nil, err
 	}
 	if err := writeAtomically(filepath.Join(staging, manifest.FileName), func(w io.Writer) error { return manifest.Write(w, m) }); err != nil {
@@ -161,6 +153,114 @@ func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error)
 	}
 	res.Manifest = m
 	return res, nil
+}
+
+// build is the state of one Build, indexed by note. Workers write only
+// their own notes' entries, so no entry needs a lock.
+type build struct {
+	plan     *patch.Plan
+	opts     Options
+	staging  string
+	loops    []synth.Loop
+	looped   []bool
+	gains    []float64
+	stats    []synth.Stats
+	clipped  []bool
+	warnings [][]string
+	manifest *manifest.Manifest
+
+	progressMu sync.Mutex
+	done       int
+}
+
+// twoPasses measures every note, sets the gains and then writes the notes.
+func (b *build) twoPasses(ctx context.Context, jobs int, res *Result) error {
+	notes := b.plan.Notes
+	measured := make([]levels, len(notes))
+	kept := newSpills(b.staging, len(notes))
+	defer kept.remove() // on failure; the staging folder goes as well
+	truePeak, loudness := needs(b.plan.Normalize)
+	err := forEach(ctx, jobs, len(notes), func(w *worker, i int) error {
+		buf := b.render(w, i)
+		measured[i] = w.measure(buf, &notes[i], truePeak, loudness)
+		if b.stats[i].PartialSamples < spillPartials*int64(notes[i].Frames) {
+			return nil
+		}
+		return kept.keep(w, i, buf)
+	})
+	if err != nil {
+		return err
+	}
+	gains, warnings, err := levelGains(b.plan.Normalize, notes, measured)
+	if err != nil {
+		return err
+	}
+	copy(b.gains, gains)
+	res.Warnings = append(res.Warnings, warnings...)
+	err = forEach(ctx, jobs, len(notes), func(w *worker, i int) error {
+		if kept.kept(i) {
+			buf, err := kept.read(w, i, synth.Frames(&notes[i]))
+			if err != nil {
+				return err
+			}
+			return b.finish(w, i, buf)
+		}
+		stats := b.stats[i]
+		buf := b.render(w, i)
+		b.stats[i] = stats
+		return b.finish(w, i, buf)
+	})
+	if err != nil {
+		return err
+	}
+	for i := range notes {
+		if !kept.kept(i) {
+			res.Rerendered++
+		}
+	}
+	return kept.remove()
+}
+
+// render renders note i into the worker's buffer and records its work.
+func (b *build) render(w *worker, i int) []float64 {
+	buf := w.render(&b.plan.Notes[i], b.loops[i])
+	b.stats[i] = w.stats
+	return buf
+}
+
+// finish applies note i's gain to buf, trims its tail, measures it and
+// writes its WAV file and manifest entry.
+func (b *build) finish(w *worker, i int, buf []float64) error {
+	n := &b.plan.Notes[i]
+	synth.Scale(buf, b.gains[i])
+	frames := n.Frames
+	if n.TailUntil > 0 {
+		notBefore := n.NoteOff
+		if b.looped[i] {
+			notBefore = max(notBefore, b.loops[i].End+1)
+		}
+		frames = synth.TrimTail(buf, n.Channels, n.SampleRate, n.TailUntil, notBefore)
+		buf = buf[:frames*n.Channels]
+	}
+	lv := w.measure(buf, n, true, true)
+	b.clipped[i] = lv.peak > 1 && b.plan.BitDepth != 32
+	var loop *synth.Loop
+	if b.looped[i] {
+		loop = &b.loops[i]
+	}
+	sum, err := writeWAV(filepath.Join(b.staging, n.File), buf, n, b.plan, loop)
+	if err != nil {
+		return err
+	}
+	b.manifest.Files[i] = manifestEntry(n, b.plan.BitDepth, frames, b.gains[i], lv, buf, loop)
+	b.manifest.Files[i].SHA256 = sum
+	if b.opts.Progress != nil {
+		b.progressMu.Lock()
+		b.done++
+		b.opts.Progress(b.done, len(b.plan.Notes), n.File)
+		b.progressMu.Unlock()
+	}
+	return nil
 }
 
 // roundDB rounds a level for the manifest, writing silence as silentDBFS
@@ -199,6 +299,7 @@ type worker struct {
 	buf      []float64
 	stats    synth.Stats
 	meter    *loudness.Meter
+	spill    *spillWriter // the first pass's spill file, once it has one
 }
 
 func (w *worker) render(n *patch.Note, loop synth.Loop) []float64 {

@@ -465,20 +465,26 @@ func TestVerifyFindsCorruption(t *testing.T) {
 // output, byte for byte.
 func TestBuildJobsBitIdentical(t *testing.T) {
 	root := t.TempDir()
-	one, three := filepath.Join(root, "one"), filepath.Join(root, "three")
 	src := patchSource(24, 2, "")
-	build(t, newPlan(t, src, one), 1)
-	build(t, newPlan(t, src, three), 3)
-	a, b := snapshot(t, one), snapshot(t, three)
-	if len(a) == 0 {
-		t.Fatal("empty set")
-	}
-	if len(a) != len(b) {
-		t.Fatalf("Jobs 1 wrote %d files, Jobs 3 wrote %d", len(a), len(b))
-	}
-	for name, sum := range a {
-		if b[name] != sum {
-			t.Errorf("%s differs between Jobs 1 and Jobs 3", name)
+	var first map[string]string
+	for _, jobs := range []int{1, 2, 8} {
+		dir := filepath.Join(root, strconv.Itoa(jobs))
+		build(t, newPlan(t, src, dir), jobs)
+		set := snapshot(t, dir)
+		if len(set) == 0 {
+			t.Fatal("empty set")
+		}
+		if first == nil {
+			first = set
+			continue
+		}
+		if len(set) != len(first) {
+			t.Fatalf("Jobs 1 wrote %d files, Jobs %d wrote %d", len(first), jobs, len(set))
+		}
+		for name, sum := range first {
+			if set[name] != sum {
+				t.Errorf("%s differs between Jobs 1 and Jobs %d", name, jobs)
+			}
 		}
 	}
 }
