@@ -15,78 +15,166 @@ import (
 func check(args []string, stdout, stderr io.Writer) int {
 	fs := flag.NewFlagSet("check", flag.ContinueOnError)
 	keyList := fs.String("keys", "", "plan only these keys")
+	asJSON := fs.Bool("json", false, "print the plan, or the errors, as JSON on stdout")
 	path, ok := parseArgs(fs, args, stderr)
 	if !ok {
 		return exitUsage
 	}
-	plan, p, ok := loadPlan(path, *keyList, "", stderr)
-	if !ok {
-		return exitUsage
+	out := reporter{json: *asJSON, stdout: stdout, stderr: stderr, command: "check"}
+	plan, p, err := loadPlan(path, *keyList, "")
+	if err != nil {
+		return out.fail(exitUsage, err)
 	}
-	printPlan(stdout, plan, p)
+	summary := summarize(plan, p)
+	if out.json {
+		return out.emit(summary)
+	}
+	printPlan(stdout, &summary)
 	return exitOK
 }
 
-func printPlan(w io.Writer, plan *patch.Plan, p *patch.Patch) {
-	var seconds float64
-	var bytes, partialSamples int64
-	keys := 0
-	for i, n := range plan.Notes {
-		seconds += float64(n.Frames) / float64(n.SampleRate)
-		bytes += wav.Size(n.Frames, wav.Options{SampleRate: n.SampleRate, BitDepth: plan.BitDepth, Channels: n.Channels,
-			Sampler: &wav.Sampler{}, Instrument: &wav.Instrument{}})
-		partialSamples += int64(len(n.Partials)) * int64(n.Frames)
-		if i == 0 || plan.Notes[i-1].Key != n.Key {
-			keys++
-		}
+// planSummary is what check reports: printed as text, or as JSON with
+// --json.
+type planSummary struct {
+	Patch        string    `json:"patch"`
+	Name         string    `json:"name"`
+	Files        int       `json:"files"`
+	Keys         int       `json:"keys"`
+	Layers       int       `json:"velocity_layers"`
+	RoundRobins  int       `json:"round_robins"`
+	SampleRate   int       `json:"sample_rate"`
+	BitDepth     int       `json:"bit_depth"`
+	Channels     int       `json:"channels"`
+	AudioSeconds float64   `json:"audio_seconds"` // an upper bound when tails end by level
+	TailUntilDB  float64   `json:"tail_until_dbfs,omitempty"`
+	FileSeconds  float64   `json:"file_seconds"`
+	Bytes        int64     `json:"bytes"`
+	OutputDir    string    `json:"output_dir"`
+	Work         work      `json:"partial_samples"`
+	BandLimitHz  float64   `json:"band_limit_hz"`
+	BandFadeHz   float64   `json:"band_fade_from_hz"`
+	BandLimit    float64   `json:"band_limit"`
+	Levelling    string    `json:"levelling"`
+	Dither       bool      `json:"dither"`
+	PerKey       []keyPlan `json:"per_key"`
+}
+
+// work is oscillator work in partial-samples: what the renderer computes,
+// and what it would without skipping silent spans.
+type work struct {
+	Computed int64 `json:"computed"`
+	Nominal  int64 `json:"nominal"`
+}
+
+func (w work) String() string {
+	skipped := 0.0
+	if w.Nominal > 0 {
+		skipped = 100 * float64(w.Nominal-w.Computed) / float64(w.Nominal)
 	}
-	channels := "mono"
-	if plan.Channels == 2 {
-		channels = "stereo"
+	return fmt.Sprintf("%.3g of %.3g nominal partial-samples (%.1f%% skipped as silent)", float64(w.Computed), float64(w.Nominal), skipped)
+}
+
+// keyPlan is one row of the per-key table; velocity layers and round
+// robins share it.
+type keyPlan struct {
+	Key       int       `json:"key"`
+	Note      string    `json:"note"`
+	F0        float64   `json:"f0_hz"`
+	Kept      int       `json:"partials_kept"`
+	Faded     int       `json:"partials_faded"`
+	Dropped   int       `json:"partials_dropped"`
+	HighestHz float64   `json:"highest_hz"`
+	Loop      *loopPlan `json:"loop,omitempty"`
+}
+
+type loopPlan struct {
+	Start           float64 `json:"start_s"`
+	End             float64 `json:"end_s"`
+	Kind            string  `json:"kind"` // whole cycles, retuned, crossfade
+	PitchErrorCents float64 `json:"pitch_error_cents,omitempty"`
+	RetuneCents     float64 `json:"retune_cents,omitempty"`
+}
+
+func summarize(plan *patch.Plan, p *patch.Patch) planSummary {
+	s := planSummary{
+		Patch: plan.PatchFile, Name: plan.Name, Files: len(plan.Notes), Layers: len(p.Velocities), RoundRobins: p.RoundRobin,
+		SampleRate: plan.SampleRate, BitDepth: plan.BitDepth, Channels: plan.Channels, FileSeconds: p.Hold + p.Tail,
+		OutputDir: plan.OutputDir, BandLimit: p.BandLimit, BandLimitHz: p.BandLimit * float64(p.SampleRate),
+		BandFadeHz: p.BandLimit * (1 - p.BandFade) * float64(p.SampleRate),
+		Levelling:  p.Normalize.String(), Dither: plan.Dither && plan.BitDepth != 32,
 	}
-	format := fmt.Sprintf("%d-bit PCM", plan.BitDepth)
-	if plan.BitDepth == 32 {
-		format = "32-bit float"
-	}
-	fmt.Fprintf(w, "patch %s (%s)\n", plan.Name, plan.PatchFile)
-	fmt.Fprintf(w, "  files:    %d (%d keys x %d velocity layers x %d round robins)\n", len(plan.Notes), keys, len(p.Velocities), p.RoundRobin)
-	fmt.Fprintf(w, "  format:   %d Hz, %s, %s\n", plan.SampleRate, format, channels)
 	if p.TailUntil > 0 {
-		fmt.Fprintf(w, "  audio:    at most %.1f s in all; each tail ends when the level stays below %.0f dBFS\n", seconds, 20*math.Log10(p.TailUntil))
-	} else {
-		fmt.Fprintf(w, "  audio:    %.1f s in all, %.2f s per file\n", seconds, p.Hold+p.Tail)
+		s.TailUntilDB = 20 * math.Log10(p.TailUntil)
 	}
-	fmt.Fprintf(w, "  bytes:    %d (%.1f MiB) into %s\n", bytes, float64(bytes)/(1<<20), plan.OutputDir)
-	fmt.Fprintf(w, "  work:     %.3g partial-samples at most\n", float64(partialSamples))
-	fmt.Fprintf(w, "  band limit: %.0f Hz (%.3g of the sample rate), fading from %.0f Hz\n",
-		p.BandLimit*float64(p.SampleRate), p.BandLimit, p.BandLimit*(1-p.BandFade)*float64(p.SampleRate))
-	dither := "off"
-	if plan.Dither && plan.BitDepth != 32 {
-		dither = "TPDF, ±1 LSB"
-	}
-	fmt.Fprintf(w, "  levelling: %s; dither %s\n", p.Normalize, dither)
-	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
-	fmt.Fprintln(tw, "key\tmidi\tf0 Hz\tkept\tfaded\tdropped\thighest Hz\tloop s\tloop kind\tpitch error\t")
-	for i, n := range plan.Notes {
+	for i := range plan.Notes {
+		n := &plan.Notes[i]
+		s.AudioSeconds += float64(n.Frames) / float64(n.SampleRate)
+		s.Bytes += wav.Size(n.Frames, wav.Options{SampleRate: n.SampleRate, BitDepth: plan.BitDepth, Channels: n.Channels,
+			Sampler: &wav.Sampler{}, Instrument: &wav.Instrument{}})
+		w := synth.Work(n)
+		s.Work.Computed += w.PartialSamples
+		s.Work.Nominal += w.Nominal
 		if i > 0 && plan.Notes[i-1].Key == n.Key {
-			continue // partial counts are per key; layers share them
+			continue
 		}
-		highest := 0.0
+		s.Keys++
+		row := keyPlan{Key: n.Key, Note: patch.NoteName(n.Key), F0: n.F0, Kept: len(n.Partials), Faded: n.Faded, Dropped: n.Dropped}
 		for _, part := range n.Partials {
-			highest = max(highest, part.Hz)
+			row.HighestHz = max(row.HighestHz, part.Hz)
 		}
-		loopSpan, kind, cents := "-", "-", "-"
-		if loop, ok := synth.PlanLoop(&n); ok {
+		if loop, ok := synth.PlanLoop(n); ok {
 			rate := float64(n.SampleRate)
-			loopSpan = fmt.Sprintf("%.3f-%.3f", float64(loop.Start)/rate, float64(loop.End+1)/rate)
-			kind, cents = "whole cycles", fmt.Sprintf("%.4f c", loop.Cents)
+			row.Loop = &loopPlan{Start: float64(loop.Start) / rate, End: float64(loop.End+1) / rate, Kind: "whole cycles", PitchErrorCents: loop.Cents}
 			if loop.Crossfade > 0 {
-				kind, cents = "crossfade", "-"
+				row.Loop.Kind, row.Loop.PitchErrorCents = "crossfade", 0
 			} else if loop.Retune != 0 {
-				kind, cents = "retuned", fmt.Sprintf("%+.4f c", loop.Retune)
+				row.Loop.Kind, row.Loop.RetuneCents = "retuned", loop.Retune
 			}
 		}
-		fmt.Fprintf(tw, "%s\t%d\t%.2f\t%d\t%d\t%d\t%.0f\t%s\t%s\t%s\t\n", patch.NoteName(n.Key), n.Key, n.F0, len(n.Partials), n.Faded, n.Dropped, highest, loopSpan, kind, cents)
+		s.PerKey = append(s.PerKey, row)
+	}
+	return s
+}
+
+func printPlan(w io.Writer, s *planSummary) {
+	channels := "mono"
+	if s.Channels == 2 {
+		channels = "stereo"
+	}
+	format := fmt.Sprintf("%d-bit PCM", s.BitDepth)
+	if s.BitDepth == 32 {
+		format = "32-bit float"
+	}
+	fmt.Fprintf(w, "patch %s (%s)\n", s.Name, s.Patch)
+	fmt.Fprintf(w, "  files:    %d (%d keys x %d velocity layers x %d round robins)\n", s.Files, s.Keys, s.Layers, s.RoundRobins)
+	fmt.Fprintf(w, "  format:   %d Hz, %s, %s\n", s.SampleRate, format, channels)
+	if s.TailUntilDB != 0 {
+		fmt.Fprintf(w, "  audio:    at most %.1f s in all; each tail ends when the level stays below %.0f dBFS\n", s.AudioSeconds, s.TailUntilDB)
+	} else {
+		fmt.Fprintf(w, "  audio:    %.1f s in all, %.2f s per file\n", s.AudioSeconds, s.FileSeconds)
+	}
+	fmt.Fprintf(w, "  bytes:    %d (%.1f MiB) into %s\n", s.Bytes, float64(s.Bytes)/(1<<20), s.OutputDir)
+	fmt.Fprintf(w, "  work:     to compute %s\n", s.Work)
+	fmt.Fprintf(w, "  band limit: %.0f Hz (%.3g of the sample rate), fading from %.0f Hz\n", s.BandLimitHz, s.BandLimit, s.BandFadeHz)
+	dither := "off"
+	if s.Dither {
+		dither = "TPDF, ±1 LSB"
+	}
+	fmt.Fprintf(w, "  levelling: %s; dither %s\n", s.Levelling, dither)
+	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
+	fmt.Fprintln(tw, "key\tmidi\tf0 Hz\tkept\tfaded\tdropped\thighest Hz\tloop s\tloop kind\tpitch error\t")
+	for _, k := range s.PerKey {
+		loopSpan, kind, cents := "-", "-", "-"
+		if l := k.Loop; l != nil {
+			loopSpan, kind = fmt.Sprintf("%.3f-%.3f", l.Start, l.End), l.Kind
+			switch l.Kind {
+			case "whole cycles":
+				cents = fmt.Sprintf("%.4f c", l.PitchErrorCents)
+			case "retuned":
+				cents = fmt.Sprintf("%+.4f c", l.RetuneCents)
+			}
+		}
+		fmt.Fprintf(tw, "%s\t%d\t%.2f\t%d\t%d\t%d\t%.0f\t%s\t%s\t%s\t\n", k.Note, k.Key, k.F0, k.Kept, k.Faded, k.Dropped, k.HighestHz, loopSpan, kind, cents)
 	}
 	tw.Flush()
 }

@@ -33,11 +33,14 @@ const (
 const usage = `sinter compiles a patch of sine partials into a sampler-ready sample set.
 
 Usage:
-  sinter render PATCH.yaml [-o DIR] [--keys LIST] [--jobs N] [--quiet]
+  sinter render PATCH.yaml [-o DIR] [--keys LIST] [--jobs N] [--quiet] [--json]
       Render every root key and velocity layer into DIR (default: the
       patch's output.dir): WAV files, an SFZ mapping and manifest.json.
-  sinter check PATCH.yaml [--keys LIST]
+  sinter check PATCH.yaml [--keys LIST] [--json]
       Validate the patch and print the plan without rendering.
+
+--json prints one JSON document on stdout: {"ok": true, "result": ...}, or
+{"ok": false, "errors": [{"file", "line", "column", "path", "message"}]}.
   sinter verify DIR
       Read a rendered set back and check every file against its manifest.
   sinter help
@@ -130,30 +133,39 @@ func parseKeys(list string) ([]int, error) {
 	return keys, nil
 }
 
-// loadPlan loads and expands a patch, printing its errors.
-func loadPlan(path, keyList, outDir string, stderr io.Writer) (*patch.Plan, *patch.Patch, bool) {
+// loadPlan loads and expands a patch.
+func loadPlan(path, keyList, outDir string) (*patch.Plan, *patch.Patch, error) {
 	var keys []int
 	if keyList != "" {
 		var err error
 		if keys, err = parseKeys(keyList); err != nil {
-			fmt.Fprintf(stderr, "sinter: %v\n", err)
-			return nil, nil, false
+			return nil, nil, err
 		}
 	}
 	p, err := patch.Load(path)
 	if err != nil {
-		fmt.Fprintln(stderr, err)
-		return nil, nil, false
+		return nil, nil, err
 	}
 	if outDir != "" {
 		p.OutputDir = outDir
 	}
 	plan, err := p.Expand(patch.ExpandOptions{Keys: keys})
 	if err != nil {
-		fmt.Fprintln(stderr, err)
-		return nil, nil, false
+		return nil, nil, err
 	}
-	return plan, p, true
+	return plan, p, nil
+}
+
+// renderSummary is what render reports with --json.
+type renderSummary struct {
+	Patch      string   `json:"patch"`
+	OutputDir  string   `json:"output_dir"`
+	Files      int      `json:"files"`
+	Levelling  string   `json:"levelling"`
+	Kernel     string   `json:"kernel"`
+	Work       work     `json:"partial_samples"`
+	Rerendered int      `json:"notes_rendered_twice"`
+	Warnings   []string `json:"warnings"`
 }
 
 func render(args []string, stdout, stderr io.Writer) int {
@@ -162,17 +174,19 @@ func render(args []string, stdout, stderr io.Writer) int {
 	keyList := fs.String("keys", "", "render only these keys")
 	jobs := fs.Int("jobs", runtime.NumCPU(), "notes rendered at once")
 	quiet := fs.Bool("quiet", false, "print nothing but errors")
+	asJSON := fs.Bool("json", false, "print a summary of the set, or the errors, as JSON on stdout")
 	path, ok := parseArgs(fs, args, stderr)
 	if !ok {
 		return exitUsage
 	}
+	out := reporter{json: *asJSON, stdout: stdout, stderr: stderr, command: "render"}
 	if *jobs < 1 {
 		fmt.Fprintf(stderr, "sinter render: --jobs must be 1 or more, got %d\n", *jobs)
 		return exitUsage
 	}
-	plan, _, ok := loadPlan(path, *keyList, *outDir, stderr)
-	if !ok {
-		return exitUsage
+	plan, _, err := loadPlan(path, *keyList, *outDir)
+	if err != nil {
+		return out.fail(exitUsage, err)
 	}
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
 	defer stop()
@@ -181,19 +195,25 @@ func render(args []string, stdout, stderr io.Writer) int {
 		opts.Progress = progressPrinter(stderr)
 	}
 	res, err := sampleset.Build(ctx, plan, opts)
+	if errors.Is(err, context.Canceled) {
+		err = errors.New("interrupted; the previous set, if any, is unchanged")
+	}
 	if err != nil {
-		if errors.Is(err, context.Canceled) {
-			fmt.Fprintln(stderr, "sinter render: interrupted; the previous set, if any, is unchanged")
-		} else {
-			fmt.Fprintf(stderr, "sinter render: %v\n", err)
-		}
-		return exitFailure
+		return out.fail(exitFailure, err)
+	}
+	summary := renderSummary{Patch: plan.PatchFile, OutputDir: res.Dir, Files: len(res.Manifest.Files),
+		Levelling: res.Manifest.Levelling, Kernel: synth.Kernel(),
+		Work:       work{Computed: res.Stats.PartialSamples, Nominal: res.Stats.Nominal},
+		Rerendered: res.Rerendered, Warnings: res.Warnings}
+	if out.json {
+		return out.emit(summary)
 	}
 	for _, w := range res.Warnings {
 		fmt.Fprintf(stderr, "sinter render: warning: %s\n", w)
 	}
 	if !*quiet {
-		fmt.Fprintf(stdout, "rendered %d files into %s (levelling: %s)\n", len(res.Manifest.Files), res.Dir, res.Manifest.Levelling)
+		fmt.Fprintf(stdout, "rendered %d files into %s (levelling: %s)\n", summary.Files, summary.OutputDir, summary.Levelling)
+		fmt.Fprintf(stdout, "computed %s\n", summary.Work)
 	}
 	return exitOK
 }

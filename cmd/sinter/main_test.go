@@ -2,6 +2,7 @@ package main
 
 import (
 	"bytes"
+	"encoding/json"
 	"os"
 	"path/filepath"
 	"reflect"
@@ -152,4 +153,72 @@ func TestParseKeys(t *testing.T) {
 			t.Errorf("parseKeys(%q) succeeded", bad)
 		}
 	}
+}
+
+// TestJSONReports: with --json, check and render print one JSON document
+// on stdout, the result or the errors with their places, and nothing on
+// stderr but progress.
+func TestJSONReports(t *testing.T) {
+	good := writePatch(t, smallPatch)
+	bad := writePatch(t, "name: test-tone\nsampel_rate: 8000\npartials: [{harmonics: 2}]\n")
+	type report struct {
+		OK     bool `json:"ok"`
+		Result struct {
+			Files int `json:"files"`
+			Work  struct {
+				Computed int64 `json:"computed"`
+				Nominal  int64 `json:"nominal"`
+			} `json:"partial_samples"`
+			PerKey []struct {
+				Note string `json:"note"`
+				Kept int    `json:"partials_kept"`
+			} `json:"per_key"`
+		} `json:"result"`
+		Errors []struct {
+			File    string `json:"file"`
+			Line    int    `json:"line"`
+			Column  int    `json:"column"`
+			Message string `json:"message"`
+		} `json:"errors"`
+	}
+	decode := func(t *testing.T, stdout string) report {
+		t.Helper()
+		var r report
+		if err := json.Unmarshal([]byte(stdout), &r); err != nil {
+			t.Fatalf("stdout is not JSON: %v\n%s", err, stdout)
+		}
+		return r
+	}
+	t.Run("check", func(t *testing.T) {
+		code, stdout, stderr := runCLI("check", good, "--json")
+		r := decode(t, stdout)
+		if code != exitOK || !r.OK || stderr != "" {
+			t.Fatalf("exit %d, ok %v, stderr %q", code, r.OK, stderr)
+		}
+		// 4 files of 0.15 s at 8 kHz with 4 partials each, none silent
+		// before the end of its release.
+		if r.Result.Files != 4 || r.Result.Work.Nominal != 4*4*1200 || len(r.Result.PerKey) != 2 || r.Result.PerKey[0].Note != "C4" {
+			t.Errorf("result %+v", r.Result)
+		}
+		if r.Result.Work.Computed <= 0 || r.Result.Work.Computed > r.Result.Work.Nominal {
+			t.Errorf("computed %d of nominal %d", r.Result.Work.Computed, r.Result.Work.Nominal)
+		}
+	})
+	t.Run("bad patch", func(t *testing.T) {
+		code, stdout, stderr := runCLI("check", "--json", bad)
+		r := decode(t, stdout)
+		if code != exitUsage || r.OK || stderr != "" || len(r.Errors) != 1 {
+			t.Fatalf("exit %d, report %+v, stderr %q", code, r, stderr)
+		}
+		if e := r.Errors[0]; e.File != bad || e.Line != 2 || e.Column != 1 || !strings.Contains(e.Message, `did you mean "sample_rate"`) {
+			t.Errorf("error %+v", e)
+		}
+	})
+	t.Run("render", func(t *testing.T) {
+		code, stdout, _ := runCLI("render", good, "--json", "--quiet", "-o", filepath.Join(t.TempDir(), "set"))
+		r := decode(t, stdout)
+		if code != exitOK || !r.OK || r.Result.Files != 4 || r.Result.Work.Computed == 0 {
+			t.Fatalf("exit %d, report %+v", code, r)
+		}
+	})
 }
