@@ -44,18 +44,13 @@ fuzz:
 		done; \
 	done
 
-# Kernel, encoder and meter benchmarks, then a whole render of the
-# benchmark patch with one and two jobs: wall time and peak RSS.
+# In one run: the oscillator kernels (naive reference, plain, and the
+# vector kernel where the build has it), the encoder and meters; then whole
+# renders of testdata/bench-pad.yaml with --jobs 1 and 2 beside the numpy
+# peer, and the dense set, with wall time and peak memory.
 bench: build
-	$(GO) test -run '^$$' -bench . -benchmem ./synth/...
-	@for j in 1 2; do \
-		echo "== sinter render testdata/bench-pad.yaml --jobs $$j"; \
-		if [ -x /usr/bin/time ]; then \
-			/usr/bin/time -f "%e s wall, %M KiB peak RSS" ./bin/sinter render testdata/bench-pad.yaml -o out/bench-pad --jobs $$j --quiet; \
-		else \
-			bash -c "time ./bin/sinter render testdata/bench-pad.yaml -o out/bench-pad --jobs $$j --quiet"; \
-		fi; \
-	done
+	$(FAST) $(GO) test -run '^$$' -bench . -benchmem ./synth/...
+	./testdata/bench/end-to-end.sh ./bin/sinter out/bench
 
 install:
 	$(FAST) $(GO) install ./cmd/sinter
