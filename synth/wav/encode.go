@@ -330,32 +330,27 @@ const packSamples = 8192 * 2
 // the widest format, so concurrent Encode calls share no buffer.
 var packBuffers = sync.Pool{New: func() any { return new([packSamples * 4]byte) }}
 
-// ditherBuffers holds the dithered copies of sample blocks, pooled apart
-// from packBuffers because only dithered encodes need them.
-var ditherBuffers = sync.Pool{New: func() any { return new([packSamples]float64) }}
+// codeBuffers holds the integer codes of a block of samples between
+// quantising and packing.
+var codeBuffers = sync.Pool{New: func() any { return new([packSamples]int32) }}
 
 // writeSamples packs samples in blocks of packSamples and writes each block.
-// Dithered blocks are copied with their noise added, so the packing code and
-// its rounding are the same with and without dither.
 func writeSamples(w io.Writer, samples []float64, opts Options) error {
 	buf := packBuffers.Get().(*[packSamples * 4]byte)
 	defer packBuffers.Put(buf)
-	var dithered *[packSamples]float64
-	if opts.Dither && opts.BitDepth != 32 {
-		dithered = ditherBuffers.Get().(*[packSamples]float64)
-		defer ditherBuffers.Put(dithered)
+	var codes *[packSamples]int32
+	if opts.BitDepth != 32 {
+		codes = codeBuffers.Get().(*[packSamples]int32)
+		defer codeBuffers.Put(codes)
 	}
 	for first := 0; first < len(samples); first += packSamples {
 		block := samples[first:min(len(samples), first+packSamples)]
-		if dithered != nil {
-			block = addDither(dithered[:], block, opts.DitherSeed, uint64(first), opts.BitDepth)
-		}
 		var packed []byte
 		switch opts.BitDepth {
 		case 16:
-			packed = pack16(buf[:], block)
+			packed = pack16(buf[:], quantizeBlock(codes[:len(block)], block, 16, opts.Dither, opts.DitherSeed, uint64(first)))
 		case 24:
-			packed = pack24(buf[:], block)
+			packed = pack24(buf[:], quantizeBlock(codes[:len(block)], block, 24, opts.Dither, opts.DitherSeed, uint64(first)))
 		case 32:
 			packed = packFloat(buf[:], block)
 		}
@@ -366,26 +361,35 @@ func writeSamples(w io.Writer, samples []float64, opts Options) error {
 	return nil
 }
 
-// addDither stores src[i] + tpdf(seed, first+i) LSB in dst and returns the
-// filled part of dst; first is the index of src[0] in the whole file, so
-// the noise does not depend on how the samples are split into blocks.
+// quantizeScalar stores in dst the integer code of each sample of src for
+// a format of bits bits, with TPDF dither tpdf(seed, first+i) LSB added
+// when dither is set; first is the index of src[0] in the whole file, so
+// the noise does not depend on how the samples are split into blocks. It
+// returns dst. encode_simd.go has a vector twin that gives the same codes.
 //
-// The noise is added at full scale, x + d·2^−(bits−1), so that quantize
-// stays the only rounding code. Scaling by a power of two is exact and
-// rounding commutes with it, so quantize then rounds exactly the float64
+// The noise is added at full scale, x + d·2^−(bits−1), and quantize then
+// scales by 2^(bits−1): scaling by a power of two is exact and rounding
+// commutes with it, so the code is the rounding of the float64
 // x · 2^(bits−1) + d; values so large that the scaling overflows clip
 // either way. The product d·2^−(bits−1) is exact too, so a compiler fusing
 // the multiply and the add cannot change the result.
-func addDither(dst, src []float64, seed, first uint64, bits int) []float64 {
-	lsb := math.Ldexp(1, 1-bits)
+func quantizeScalar(dst []int32, src []float64, bits int, dither bool, seed, first uint64) []int32 {
+	scale := math.Ldexp(1, bits-1)
 	dst = dst[:len(src)]
+	if !dither {
+		for i, x := range src {
+			dst[i] = quantize(x, scale)
+		}
+		return dst
+	}
+	lsb := math.Ldexp(1, 1-bits)
 	// Stepping the SplitMix64 state instead of computing it from the index
 	// as tpdf does saves a multiplication per sample, which made this loop
 	// about a quarter faster.
 	state := seed + first*splitMixGamma
 	for i, x := range src {
 		state += splitMixGamma
-		dst[i] = x + triangular(splitMix64(state))*lsb
+		dst[i] = quantize(x+triangular(splitMix64(state))*lsb, scale)
 	}
 	return dst
 }
@@ -416,7 +420,7 @@ const (
 //	z = z ^ z>>31
 //	d = (z>>32)/2^32 − ½ + (z & 0xFFFFFFFF)/2^32 − ½
 //
-// addDither steps the state instead; tpdf is the per-index definition that
+// quantizeScalar steps the state instead; tpdf is the per-index definition that
 // the tests hold it to.
 func tpdf(seed, i uint64) float64 {
 	return triangular(splitMix64(seed + (i+1)*splitMixGamma))
@@ -436,30 +440,29 @@ func triangular(z uint64) float64 {
 	return float64(z>>32+uint64(uint32(z)))*0x1p-32 - 1
 }
 
-func pack16(dst []byte, src []float64) []byte {
-	dst = dst[:2*len(src)]
-	for i, x := range src {
-		binary.LittleEndian.PutUint16(dst[2*i:], uint16(quantize(x, 1<<15)))
+func pack16(dst []byte, codes []int32) []byte {
+	dst = dst[:2*len(codes)]
+	for i, v := range codes {
+		binary.LittleEndian.PutUint16(dst[2*i:], uint16(v))
 	}
 	return dst
 }
 
-func pack24(dst []byte, src []float64) []byte {
-	dst = dst[:3*len(src)]
+func pack24(dst []byte, codes []int32) []byte {
+	dst = dst[:3*len(codes)]
 	// Four 3-byte samples fill exactly three 32-bit words, so whole groups
 	// are stored a word at a time; the last few samples go byte by byte.
-	groups := len(src) / 4
+	groups := len(codes) / 4
 	for g := range groups {
-		s := src[4*g : 4*g+4 : 4*g+4]
-		a, b := uint32(quantize(s[0], 1<<23)), uint32(quantize(s[1], 1<<23))
-		c, d := uint32(quantize(s[2], 1<<23)), uint32(quantize(s[3], 1<<23))
+		c4 := codes[4*g : 4*g+4 : 4*g+4]
+		a, b, c, d := uint32(c4[0]), uint32(c4[1]), uint32(c4[2]), uint32(c4[3])
 		out := dst[12*g : 12*g+12 : 12*g+12]
 		binary.LittleEndian.PutUint32(out[0:], a&0xFFFFFF|b<<24)
 		binary.LittleEndian.PutUint32(out[4:], b>>8&0xFFFF|c<<16)
 		binary.LittleEndian.PutUint32(out[8:], c>>16&0xFF|d<<8)
 	}
-	for i := 4 * groups; i < len(src); i++ {
-		v := quantize(src[i], 1<<23)
+	for i := 4 * groups; i < len(codes); i++ {
+		v := codes[i]
 		dst[3*i], dst[3*i+1], dst[3*i+2] = byte(v), byte(v>>8), byte(v>>16)
 	}
 	return dst
