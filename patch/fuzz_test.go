@@ -40,6 +40,7 @@ output: {dir: renders}
 	"name: harbor-glass\npartials:\n  - harmonics: 4\n    amplitude: \"1/(n\"\n  - ratio: 1\n    amplitude: >-\n      1/(n-1)\n",
 	"name: x\nkeys: [&k C4, *k]\npartials:\n  - &g {ratio: 1}\n  - {<<: [*g, *g]}\n  - &s {<<: *s, ratio: 2}\n",
 	"name: x\npartials:\n  - {harmonics: 4, amplitude: 1/(n-1), envelope: {sustain: 1.5, attack: -1}}\n",
+	"name: bells\nchannels: 2\nbody: [[300, 0], [2500, 9]]\npartials:\n  - {modes: bar, count: 4, detune: 3, unison: {voices: 3, spread: 12}, pan: {rule: ratio, width: 0.7}}\n  - {spectrum: square, count: 9, stiffness: \"1e-4*key\", tilt: -3, phase: schroeder}\n  - {ratios: [1, 2.4], amplitudes: [1, -9 dB], phase: random}\n  - {cluster: {count: 6, from: 2, to: 9}, pan: -0.3}\n",
 	"",
 	"- a\n- b\n",
 	"{",
@@ -89,17 +90,29 @@ func FuzzParse(f *testing.F) {
 		}
 		partials := 0
 		for _, g := range p.Groups {
-			if g.Series {
+			before := partials
+			switch g.Kind {
+			case patch.KindSeries:
 				if g.Count < 1 || g.Count > patch.MaxSeries || g.First < 1 || g.Step < 1 {
 					t.Fatalf("accepted series %+v", g)
 				}
 				partials += g.Count
-			} else {
+			case patch.KindRatio:
 				if !(g.Ratio > 0) || math.IsInf(g.Ratio, 0) {
 					t.Fatalf("accepted ratio %v", g.Ratio)
 				}
 				partials++
+			case patch.KindRatios:
+				partials += len(g.Ratios)
+			case patch.KindCluster:
+				partials += g.Cluster.Count
+			default:
+				partials += g.Count
 			}
+			if g.Unison.Voices < 1 || g.Unison.Voices > patch.MaxUnison {
+				t.Fatalf("accepted %d unison voices", g.Unison.Voices)
+			}
+			partials = before + (partials-before)*g.Unison.Voices
 		}
 
 		// Expand only evaluates expressions, but keep each input cheap.

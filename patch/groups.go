@@ -2,13 +2,86 @@ package patch
 
 import (
 	"fmt"
+	"slices"
+	"strings"
 
 	"gopkg.in/yaml.v3"
 )
 
-var groupKeys = []string{"harmonics", "ratio", "amplitude", "phase", "envelope"}
+var groupKeys = []string{"harmonics", "ratio", "ratios", "modes", "spectrum", "cluster",
+	"count", "amplitude", "amplitudes", "phase", "envelope", "stiffness", "tilt", "detune", "unison", "pan"}
+
+// groupKinds are the keys of which a group has exactly one.
+var groupKinds = []string{"harmonics", "ratio", "ratios", "modes", "spectrum", "cluster"}
 
 var envelopeKeys = []string{"attack", "decay", "sustain", "release"}
+
+// Spectra a group can take from its Fourier series, by name.
+var spectra = []string{"sawtooth", "square", "triangle"}
+
+// Phase rules besides a number or an expression.
+var phaseRules = []string{"random", "schroeder"}
+
+// Pan rules besides a number or an expression.
+var panRules = []string{"alternate", "random", "ratio"}
+
+// Limits on groups.
+const (
+	MaxUnison   = 16
+	maxSpread   = 1200 // cents
+	maxListLen  = MaxSeries
+	defaultSpec = 32 // partials of a spectrum group without a count
+)
+
+// GroupKind is what a group's partials are.
+type GroupKind int
+
+// The group kinds.
+const (
+	KindSeries   GroupKind = iota // harmonics: a series of harmonic numbers
+	KindRatio                     // ratio: one partial
+	KindRatios                    // ratios: a list of ratios
+	KindModes                     // modes: a table of vibration modes
+	KindSpectrum                  // spectrum: a waveform's Fourier series
+	KindCluster                   // cluster: seeded random ratios in a range
+)
+
+// PhaseRule says how a group's phases are set.
+type PhaseRule int
+
+// The phase rules.
+const (
+	PhaseValue     PhaseRule = iota // the phase value, in degrees
+	PhaseRandom                     // uniform, from the note's seed
+	PhaseSchroeder                  // Schroeder's low-peak-factor phases
+)
+
+// PanRule says how a group's partials are placed in a stereo field.
+type PanRule int
+
+// The pan rules.
+const (
+	PanValue     PanRule = iota // the pan value, −1 (left) to 1 (right)
+	PanAlternate                // −width, +width, −width, … in partial order
+	PanRandom                   // uniform in ±width, from the patch seed
+	PanRatio                    // from −width at the lowest ratio to +width at the highest, in log ratio
+)
+
+// Unison sets the copies of each partial: Voices copies detuned evenly
+// across Spread cents, centred on the partial, and in stereo fanned across
+// ±Width around its pan position.
+type Unison struct {
+	Voices int
+	Spread float64 // cents between the outermost copies
+	Width  float64 // 0..1
+}
+
+// Cluster sets a cluster group: Count partials at ratios drawn uniformly in
+// log frequency between From and To.
+type Cluster struct {
+	Count    int
+	From, To float64
+}
 
 // defaultEnvelope is a short click-free attack into full sustain with a
 // tenth of a second release.
@@ -30,37 +103,148 @@ func (d *decoder) groups(n *yaml.Node, path string, defaults EnvelopeSpec) []Gro
 		if d.overBudget() {
 			return groups
 		}
-		item = d.resolve(item)
-		sub := fmt.Sprintf("%s[%d]", path, i)
-		g := Group{Line: item.Line, Column: item.Column, Amplitude: constValue(1), Phase: constValue(0), Envelope: defaults}
-		kinds := 0
-		d.fields(item, sub, groupKeys, func(key string, v *yaml.Node, path string) {
-			switch key {
-			case "harmonics":
-				kinds++
-				d.series(v, path, &g)
-			case "ratio":
-				kinds++
-				g.Ratio, _ = d.ranged(v, path, 1e-6, 1e6, "")
-			case "amplitude":
-				g.Amplitude, _ = d.value(v, path, true)
-			case "phase":
-				g.Phase, _ = d.value(v, path, false)
-			case "envelope":
-				g.Envelope = d.envelope(v, path, defaults)
-			}
-		})
-		if kinds != 1 && item.Kind == yaml.MappingNode {
-			d.errorf(item, sub, "a group needs exactly one of harmonics (a series) or ratio (one partial)")
-		}
-		groups = append(groups, g)
+		groups = append(groups, d.group(d.resolve(item), fmt.Sprintf("%s[%d]", path, i), defaults))
 	}
 	return groups
 }
 
+func (d *decoder) group(item *yaml.Node, path string, defaults EnvelopeSpec) Group {
+	g := Group{Line: item.Line, Column: item.Column, Amplitude: constValue(1), Phase: constValue(0), Envelope: defaults,
+		Stiffness: constValue(0), Tilt: constValue(0), Detune: constValue(0), Pan: constValue(0),
+		Unison: Unison{Voices: 1, Width: 1}}
+	var kinds []string
+	nodes := map[string]*yaml.Node{}
+	d.fields(item, path, groupKeys, func(key string, v *yaml.Node, path string) {
+		nodes[key] = v
+		switch key {
+		case "harmonics":
+			d.series(v, path, &g)
+		case "ratio":
+			g.Kind = KindRatio
+			g.Ratio, _ = d.ranged(v, path, 1e-6, 1e6, "")
+		case "ratios":
+			g.Kind = KindRatios
+			for i, r := range d.list(v, path) {
+				x, _ := d.ranged(r, fmt.Sprintf("%s[%d]", path, i), 1e-6, 1e6, "")
+				g.Ratios = append(g.Ratios, x)
+			}
+		case "modes":
+			g.Kind = KindModes
+			name, _ := d.text(v, path)
+			if _, ok := modeTables[name]; ok {
+				g.Table = name
+			} else if name != "" {
+				d.errorf(v, path, "%q is not a mode table; expected one of %s", name, strings.Join(modeTableNames(), ", "))
+			}
+		case "spectrum":
+			g.Kind = KindSpectrum
+			name, _ := d.text(v, path)
+			if slices.Contains(spectra, name) {
+				g.Spectrum = name
+			} else if name != "" {
+				d.errorf(v, path, "%q is not a spectrum; expected one of %s", name, strings.Join(spectra, ", "))
+			}
+		case "cluster":
+			g.Kind = KindCluster
+			d.cluster(v, path, &g)
+		case "count":
+			g.Count, _ = d.integer(v, path, 1, MaxSeries)
+		case "amplitude":
+			g.Amplitude, _ = d.value(v, path, true)
+		case "amplitudes":
+			for i, a := range d.list(v, path) {
+				x, _ := d.value(a, fmt.Sprintf("%s[%d]", path, i), true)
+				g.Amplitudes = append(g.Amplitudes, x)
+			}
+		case "phase":
+			g.PhaseRule, g.Phase = d.phase(v, path)
+		case "envelope":
+			g.Envelope = d.envelope(v, path, defaults)
+		case "stiffness":
+			g.Stiffness, _ = d.value(v, path, false)
+		case "tilt":
+			g.Tilt, _ = d.value(v, path, false)
+		case "detune":
+			g.Detune, _ = d.value(v, path, false)
+		case "unison":
+			d.unison(v, path, &g)
+		case "pan":
+			d.pan(v, path, &g)
+		}
+		if slices.Contains(groupKinds, key) {
+			kinds = append(kinds, key)
+		}
+	})
+	if item.Kind != yaml.MappingNode {
+		return g
+	}
+	if len(kinds) != 1 {
+		d.errorf(item, path, "a group needs exactly one of %s; found %s", strings.Join(groupKinds, ", "), listOrNone(kinds))
+		return g
+	}
+	only := func(key string, allowed ...GroupKind) {
+		if v := nodes[key]; v != nil && !slices.Contains(allowed, g.Kind) {
+			d.errorf(v, joinPath(path, key), "%s does not apply to a %s group", key, kinds[0])
+		}
+	}
+	only("count", KindModes, KindSpectrum)
+	only("amplitudes", KindRatios)
+	only("stiffness", KindSeries, KindSpectrum)
+	switch g.Kind {
+	case KindModes:
+		table := modeTables[g.Table]
+		if g.Count == 0 {
+			g.Count = len(table)
+		} else if g.Count > len(table) && g.Table != "" {
+			d.errorf(nodes["count"], joinPath(path, "count"), "the %s table has %d modes; count may be at most that", g.Table, len(table))
+		}
+	case KindSpectrum:
+		if g.Count == 0 {
+			g.Count = defaultSpec
+		}
+	case KindRatios:
+		if len(g.Amplitudes) > 0 && len(g.Amplitudes) != len(g.Ratios) {
+			d.errorf(nodes["amplitudes"], joinPath(path, "amplitudes"), "%d amplitudes for %d ratios; give one per ratio, or use amplitude for a rule", len(g.Amplitudes), len(g.Ratios))
+		}
+	}
+	return g
+}
+
+func listOrNone(keys []string) string {
+	if len(keys) == 0 {
+		return "none"
+	}
+	return strings.Join(keys, " and ")
+}
+
+// list reads a non-empty sequence of at most maxListLen items.
+func (d *decoder) list(n *yaml.Node, path string) []*yaml.Node {
+	r := d.resolve(n)
+	if r.Kind != yaml.SequenceNode {
+		d.errorf(r, path, "expected a list such as [1, 2.756, 5.404], found %s", describe(r))
+		return nil
+	}
+	if len(r.Content) == 0 || len(r.Content) > maxListLen {
+		d.errorf(r, path, "expected 1 to %d entries, found %d", maxListLen, len(r.Content))
+		return nil
+	}
+	return d.items(r)
+}
+
+// phase reads a phase in degrees (number or expression) or a phase rule.
+func (d *decoder) phase(n *yaml.Node, path string) (PhaseRule, Value) {
+	if r := d.resolve(n); r.Kind == yaml.ScalarNode && r.ShortTag() == "!!str" {
+		if i := slices.Index(phaseRules, r.Value); i >= 0 {
+			return PhaseRule(i + 1), constValue(0)
+		}
+	}
+	v, _ := d.value(n, path, false)
+	return PhaseValue, v
+}
+
 // series reads harmonics: COUNT or {count, first, step}.
 func (d *decoder) series(n *yaml.Node, path string, g *Group) {
-	g.Series, g.First, g.Step = true, 1, 1
+	g.Kind, g.First, g.Step = KindSeries, 1, 1
 	if r := d.resolve(n); r.Kind == yaml.ScalarNode {
 		g.Count, _ = d.integer(r, path, 1, MaxSeries)
 		return
@@ -77,6 +261,71 @@ func (d *decoder) series(n *yaml.Node, path string, g *Group) {
 	})
 	if g.Count == 0 && !hasKey(d.resolve(n), "count") {
 		d.errorf(d.resolve(n), path, "a harmonic series needs a count, such as {count: 30, first: 1, step: 2}")
+	}
+}
+
+// cluster reads {count, from, to}.
+func (d *decoder) cluster(n *yaml.Node, path string, g *Group) {
+	c := Cluster{From: 1, To: 2}
+	d.fields(n, path, []string{"count", "from", "to"}, func(key string, v *yaml.Node, path string) {
+		switch key {
+		case "count":
+			c.Count, _ = d.integer(v, path, 1, MaxSeries)
+		case "from":
+			c.From, _ = d.ranged(v, path, 1e-6, 1e6, "")
+		case "to":
+			c.To, _ = d.ranged(v, path, 1e-6, 1e6, "")
+		}
+	})
+	r := d.resolve(n)
+	if r.Kind == yaml.MappingNode && !hasKey(r, "count") {
+		d.errorf(r, path, "a cluster needs a count, such as {count: 12, from: 1, to: 4}")
+	}
+	if c.To < c.From {
+		d.errorf(r, path, "the cluster's range runs from %g down to %g; give from below to", c.From, c.To)
+	}
+	g.Cluster = c
+}
+
+// unison reads {voices, spread}.
+func (d *decoder) unison(n *yaml.Node, path string, g *Group) {
+	u := Unison{Voices: 1, Spread: 10, Width: 1}
+	d.fields(n, path, []string{"voices", "spread", "width"}, func(key string, v *yaml.Node, path string) {
+		switch key {
+		case "voices":
+			u.Voices, _ = d.integer(v, path, 1, MaxUnison)
+		case "spread":
+			u.Spread, _ = d.ranged(v, path, 0, maxSpread, " cents")
+		case "width":
+			u.Width, _ = d.ranged(v, path, 0, 1, "")
+		}
+	})
+	g.Unison = u
+}
+
+// pan reads a position −1..1 (number or expression) or {rule, width}.
+func (d *decoder) pan(n *yaml.Node, path string, g *Group) {
+	r := d.resolve(n)
+	if r.Kind != yaml.MappingNode {
+		g.Pan, _ = d.value(r, path, false)
+		return
+	}
+	g.PanWidth = 1
+	d.fields(r, path, []string{"rule", "width"}, func(key string, v *yaml.Node, path string) {
+		switch key {
+		case "rule":
+			name, _ := d.text(v, path)
+			if i := slices.Index(panRules, name); i >= 0 {
+				g.PanRule = PanRule(i + 1)
+			} else if name != "" {
+				d.errorf(v, path, "%q is not a pan rule; expected one of %s", name, strings.Join(panRules, ", "))
+			}
+		case "width":
+			g.PanWidth, _ = d.ranged(v, path, 0, 1, "")
+		}
+	})
+	if !hasKey(r, "rule") {
+		d.errorf(r, path, "a pan mapping needs a rule (%s); for one position write a number from -1 to 1", strings.Join(panRules, ", "))
 	}
 }
 

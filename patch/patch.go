@@ -40,7 +40,10 @@ type Patch struct {
 	Seed       uint64 // base of every derived seed (random phases, dither)
 	Dither     bool   // TPDF dither before integer quantisation
 	Groups     []Group
-	OutputDir  string // resolved against the patch file's folder
+	// Body is a spectral envelope fixed in hertz that every partial passes
+	// through, interpolated in log frequency; nil for none.
+	Body      []BodyPoint
+	OutputDir string // resolved against the patch file's folder
 }
 
 // Measure is what levelling measures and sets.
@@ -99,18 +102,36 @@ type LoopSpec struct {
 	Exact        bool    // retune a harmonic note so its loop holds whole cycles exactly
 }
 
-// Group is one entry of the patch's partials list: a single partial at a
-// frequency ratio, or a series of harmonics.
+// Group is one entry of the patch's partials list: which partials it makes
+// (Kind and the fields for it) and how they are shaped.
 type Group struct {
 	Line, Column int
-	Series       bool
-	Count        int     // series: number of harmonics
-	First        int     // series: harmonic number of the first
-	Step         int     // series: distance between harmonic numbers
-	Ratio        float64 // single partial: frequency over the fundamental
+	Kind         GroupKind
+	Count        int       // series, modes, spectrum: number of partials
+	First        int       // series: harmonic number of the first
+	Step         int       // series: distance between harmonic numbers
+	Ratio        float64   // ratio: frequency over the fundamental
+	Ratios       []float64 // ratios
+	Table        string    // modes: a table of modes.yaml
+	Spectrum     string    // spectrum: sawtooth, square or triangle
+	Cluster      Cluster   // cluster
 	Amplitude    Value
-	Phase        Value // degrees
+	Amplitudes   []Value // ratios: one gain per ratio, times Amplitude
+	PhaseRule    PhaseRule
+	Phase        Value // degrees, for PhaseValue
 	Envelope     EnvelopeSpec
+	Stiffness    Value // B of f_n = n·f0·sqrt(1 + B·n²), series and spectrum groups
+	Tilt         Value // dB per octave of ratio
+	Detune       Value // cents
+	Unison       Unison
+	PanRule      PanRule
+	Pan          Value   // −1..1, for PanValue
+	PanWidth     float64 // 0..1, for the other pan rules
+}
+
+// BodyPoint is one breakpoint of a spectral envelope fixed in frequency.
+type BodyPoint struct {
+	Hz, DB float64
 }
 
 // EnvelopeSpec is an ADSR envelope as written: times in seconds, sustain a
@@ -138,7 +159,7 @@ var namePattern = regexp.MustCompile(`^[a-z0-9][a-z0-9._-]*$`)
 
 var topKeys = []string{"name", "sample_rate", "bit_depth", "channels", "tuning", "keys", "velocities",
 	"hold", "tail", "band_limit", "band_fade", "normalize", "loop", "round_robin", "seed", "dither",
-	"envelope", "partials", "output"}
+	"envelope", "partials", "body", "output"}
 
 // Load reads, parses and validates the patch at path. The error, if any, is
 // an ErrorList holding every problem found.
@@ -250,6 +271,8 @@ func (d *decoder) patch(root *yaml.Node, p *Patch) {
 			p.Normalize = d.normalize(v, path)
 		case "loop":
 			p.Loop = d.loop(v, path)
+		case "body":
+			p.Body = d.body(v, path)
 		case "round_robin":
 			p.RoundRobin, _ = d.integer(v, path, 1, MaxRoundRobin)
 		case "seed":

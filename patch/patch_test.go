@@ -371,12 +371,84 @@ partials: {harmonics: 8}
 		line: 2, column: 11, path: "partials", msg: "expected a list of partial groups, found a mapping",
 	},
 	{
+		name: "unknown mode table",
+		src: `name: harbor-glass
+partials:
+  - {modes: gong}
+`,
+		line: 3, column: 13, path: "partials[0].modes", msg: `"gong" is not a mode table; expected one of bar, drumhead`,
+	},
+	{
+		name: "unknown spectrum",
+		src: `name: harbor-glass
+partials:
+  - {spectrum: saw, count: 8}
+`,
+		line: 3, column: 16, path: "partials[0].spectrum", msg: `"saw" is not a spectrum; expected one of sawtooth, square, triangle`,
+	},
+	{
+		name: "count on a harmonic series",
+		src: `name: harbor-glass
+partials:
+  - {harmonics: 8, count: 4}
+`,
+		line: 3, column: 27, path: "partials[0].count", msg: "count does not apply to a harmonics group",
+	},
+	{
+		name: "stiffness on a ratio",
+		src: `name: harbor-glass
+partials:
+  - {ratio: 2.5, stiffness: 0.001}
+`,
+		line: 3, column: 29, path: "partials[0].stiffness", msg: "stiffness does not apply to a ratio group",
+	},
+	{
+		name: "amplitudes do not match ratios",
+		src: `name: harbor-glass
+partials:
+  - {ratios: [1, 2.7, 5.4], amplitudes: [1, 0.5]}
+`,
+		line: 3, column: 41, path: "partials[0].amplitudes", msg: "2 amplitudes for 3 ratios",
+	},
+	{
+		name: "too many unison voices",
+		src: `name: harbor-glass
+partials:
+  - {ratio: 1, unison: {voices: 40}}
+`,
+		line: 3, column: 33, path: "partials[0].unison.voices", msg: "40 is out of range: expected 1..16",
+	},
+	{
+		name: "unknown pan rule",
+		src: `name: harbor-glass
+partials:
+  - {ratio: 1, pan: {rule: swirl}}
+`,
+		line: 3, column: 28, path: "partials[0].pan.rule", msg: `"swirl" is not a pan rule; expected one of alternate, random, ratio`,
+	},
+	{
+		name: "body points not rising",
+		src: `name: harbor-glass
+body: [[800, 3], [400, 0]]
+partials: [{ratio: 1}]
+`,
+		line: 2, column: 19, path: "body[1][0]", msg: "the points must rise in frequency: 400 Hz follows 800 Hz",
+	},
+	{
+		name: "cluster range upside down",
+		src: `name: harbor-glass
+partials:
+  - {cluster: {count: 5, from: 4, to: 2}}
+`,
+		line: 3, column: 15, path: "partials[0].cluster", msg: "the cluster's range runs from 4 down to 2",
+	},
+	{
 		name: "group with harmonics and ratio",
 		src: `name: harbor-glass
 partials:
   - {harmonics: 8, ratio: 2}
 `,
-		line: 3, column: 5, path: "partials[0]", msg: "a group needs exactly one of harmonics (a series) or ratio (one partial)",
+		line: 3, column: 5, path: "partials[0]", msg: "a group needs exactly one of harmonics, ratio, ratios, modes, spectrum, cluster; found harmonics and ratio",
 	},
 	{
 		name: "group with neither harmonics nor ratio",
@@ -778,7 +850,7 @@ func TestParseAliasBomb(t *testing.T) {
 			t.Fatalf("got %d groups; want 9", len(p.Groups))
 		}
 		for i, g := range p.Groups {
-			if g.Series || g.Ratio != 1.5 || g.Amplitude.String() != "0.5" {
+			if g.Kind != patch.KindRatio || g.Ratio != 1.5 || g.Amplitude.String() != "0.5" {
 				t.Errorf("group %d = %+v; want ratio 1.5, amplitude 0.5 merged from group 0", i, g)
 			}
 		}
@@ -856,7 +928,7 @@ func TestParseDefaults(t *testing.T) {
 		}
 	}
 	g := p.Groups[0]
-	if !g.Series || g.Count != 8 || g.First != 1 || g.Step != 1 || g.Line != 3 || g.Column != 5 {
+	if g.Kind != patch.KindSeries || g.Count != 8 || g.First != 1 || g.Step != 1 || g.Line != 3 || g.Column != 5 {
 		t.Errorf("group = %+v; want a series of 8 from 1 step 1 at 3:5", g)
 	}
 	if g.Amplitude.String() != "1" || g.Phase.String() != "0" {
@@ -900,7 +972,7 @@ partials:
 		{"Normalize", p.Normalize, patch.Normalize{Measure: patch.MeasurePeak, Target: -3}},
 		{"OutputDir", p.OutputDir, filepath.Join("renders", "pad")},
 		{"Ratio", p.Groups[0].Ratio, 2.76},
-		{"Series", p.Groups[0].Series, false},
+		{"Series", p.Groups[0].Kind == patch.KindSeries, false},
 	}
 	for _, c := range checks {
 		if c.got != c.want {
@@ -1044,7 +1116,7 @@ partials:
 	envs := envelopesOf(t, p)
 	for i, w := range wants {
 		g := p.Groups[i]
-		if g.Series || g.Ratio != w.ratio || g.Amplitude.String() != w.amplitude || g.Phase.String() != w.phase || envs[i] != w.env {
+		if g.Kind != patch.KindRatio || g.Ratio != w.ratio || g.Amplitude.String() != w.amplitude || g.Phase.String() != w.phase || envs[i] != w.env {
 			t.Errorf("group %d: ratio %v, amplitude %v, phase %v, envelope %+v; want %+v", i, g.Ratio, g.Amplitude, g.Phase, envs[i], w)
 		}
 	}

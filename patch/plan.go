@@ -59,6 +59,7 @@ type Partial struct {
 	Envelope  Envelope
 	Group     int     // index in the patch's partials list
 	Harmonic  float64 // n in expressions: harmonic number, 1 for a ratio partial
+	Pan       float64 // −1 left … 1 right, for stereo files
 }
 
 // LoopRequest is the sustain loop asked for one note, in frames; the
@@ -130,7 +131,7 @@ func (p *Patch) Expand(opts ExpandOptions) (*Plan, error) {
 				}
 				x.partials(&n)
 				if p.RoundRobin > 1 {
-					randomizePhases(&n)
+					x.randomizePhases(&n)
 				}
 				if p.TailUntil > 0 {
 					// The release curves land exactly on zero, so nothing is
@@ -215,6 +216,86 @@ type expander struct {
 	reported map[string]bool
 }
 
+// seed labels for patch-wide random draws, so each kind of draw has its
+// own stream.
+const (
+	seedCluster = iota + 1
+	seedPan
+	seedPhase
+	seedSchroederShift
+)
+
+// source is one partial of a group before shaping: its number n in the
+// group, its ratio to the fundamental and the weight its kind gives it.
+type source struct {
+	n, ratio, weight float64
+	index            int // position in the group, from 0
+}
+
+// sources lists the partials group g makes, in order.
+func (x *expander) sources(g *Group, gi int) []source {
+	var out []source
+	switch g.Kind {
+	case KindSeries:
+		for i := range g.Count {
+			h := float64(g.First + i*g.Step)
+			out = append(out, source{n: h, ratio: h, weight: 1, index: i})
+		}
+	case KindRatio:
+		out = append(out, source{n: 1, ratio: g.Ratio, weight: 1})
+	case KindRatios:
+		for i, r := range g.Ratios {
+			out = append(out, source{n: float64(i + 1), ratio: r, weight: 1, index: i})
+		}
+	case KindModes:
+		for i, r := range modeTables[g.Table][:g.Count] {
+			out = append(out, source{n: float64(i + 1), ratio: r, weight: 1, index: i})
+		}
+	case KindSpectrum:
+		for i := range g.Count {
+			out = append(out, spectrumPartial(g.Spectrum, i))
+		}
+	case KindCluster:
+		c := g.Cluster
+		for i := range c.Count {
+			u := unitFloat(deriveSeed(x.patch.Seed, seedCluster, uint64(gi), uint64(i)))
+			r := c.From * math.Pow(c.To/c.From, u)
+			out = append(out, source{n: float64(i + 1), ratio: r, weight: 1, index: i})
+		}
+	}
+	return out
+}
+
+// spectrumPartial is partial i (from 0) of a waveform's Fourier series,
+// weighted so the fundamental is 1: sawtooth Σ (−1)^(n+1) sin(nx)/n over
+// every n (ProofWiki, "Fourier Series/Sawtooth Wave"), square Σ sin(nx)/n
+// over odd n (MathWorld, "Fourier Series--Square Wave"), triangle
+// Σ (−1)^((n−1)/2) sin(nx)/n² over odd n (MathWorld, "Fourier
+// Series--Triangle Wave").
+func spectrumPartial(name string, i int) source {
+	switch name {
+	case "square":
+		h := float64(2*i + 1)
+		return source{n: h, ratio: h, weight: 1 / h, index: i}
+	case "triangle":
+		h := float64(2*i + 1)
+		sign := 1.0
+		if i%2 == 1 {
+			sign = -1
+		}
+		return source{n: h, ratio: h, weight: sign / (h * h), index: i}
+	}
+	h := float64(i + 1)
+	sign := 1.0
+	if i%2 == 1 {
+		sign = -1
+	}
+	return source{n: h, ratio: h, weight: sign / h, index: i}
+}
+
+// unitFloat maps a 64-bit seed to [0, 1).
+func unitFloat(seed uint64) float64 { return float64(seed>>11) / (1 << 53) }
+
 func (x *expander) partials(n *Note) {
 	p := x.patch
 	limit := p.BandLimit * float64(p.SampleRate)
@@ -223,43 +304,155 @@ func (x *expander) partials(n *Note) {
 	vars[varF0], vars[varKey], vars[varVel] = n.F0, float64(n.Key), float64(n.Velocity)/127
 	for gi := range p.Groups {
 		g := &p.Groups[gi]
-		count := 1
-		if g.Series {
-			count = g.Count
-		}
-		for i := range count {
-			harmonic, ratio := 1.0, g.Ratio
-			if g.Series {
-				harmonic = float64(g.First + i*g.Step)
-				ratio = harmonic
+		srcs := x.sources(g, gi)
+		logLow, logHigh := ratioSpan(srcs)
+		first := len(n.Partials)
+		for _, src := range srcs {
+			ratio := src.ratio
+			vars[varN], vars[varRatio], vars[varHz] = src.n, ratio, ratio*n.F0
+			if g.Kind == KindSeries || g.Kind == KindSpectrum {
+				b := 0.0
+				if !x.eval(&b, g.Stiffness, vars, n, 0, 1, "") {
+					continue
+				}
+				// Fletcher (1964): a stiff string's partial n sits at
+				// n·f0·sqrt(1 + B·n²).
+				ratio *= math.Sqrt(1 + b*src.n*src.n)
+				vars[varRatio], vars[varHz] = ratio, ratio*n.F0
 			}
-			hz := ratio * n.F0
-			if hz >= limit {
-				n.Dropped++
+			var detune, tilt, pan float64
+			ok := x.eval(&detune, g.Detune, vars, n, -4800, 4800, " cents")
+			ok = x.eval(&tilt, g.Tilt, vars, n, -60, 60, " dB/octave") && ok
+			if g.PanRule == PanValue {
+				ok = x.eval(&pan, g.Pan, vars, n, -1, 1, "") && ok
+			} else {
+				pan = x.panByRule(g, gi, src, logLow, logHigh)
+			}
+			if !ok {
 				continue
 			}
-			vars[varN], vars[varRatio], vars[varHz] = harmonic, ratio, hz
-			part := Partial{Hz: hz, Group: gi, Harmonic: harmonic}
-			ok := x.eval(&part.Amplitude, g.Amplitude, vars, n, math.Inf(-1), math.Inf(1), "")
-			phaseDeg := 0.0
-			ok = x.eval(&phaseDeg, g.Phase, vars, n, math.Inf(-1), math.Inf(1), "") && ok
-			part.Phase = phaseDeg * math.Pi / 180
-			e := &g.Envelope
-			ok = x.eval(&part.Envelope.Attack, e.Attack, vars, n, 0, MaxSeconds, " s") && ok
-			ok = x.eval(&part.Envelope.Decay, e.Decay, vars, n, 0, MaxSeconds, " s") && ok
-			ok = x.eval(&part.Envelope.Sustain, e.Sustain, vars, n, 0, 1, "") && ok
-			ok = x.eval(&part.Envelope.Release, e.Release, vars, n, 0, MaxSeconds, " s") && ok
-			if !ok || part.Amplitude == 0 {
-				continue
+			voices := g.Unison.Voices
+			for v := range voices {
+				cents := detune
+				if voices > 1 {
+					spread := float64(v)/float64(voices-1) - 0.5
+					cents += g.Unison.Spread * spread
+				}
+				hz := ratio * n.F0 * math.Exp2(cents/1200)
+				if hz >= limit {
+					n.Dropped++
+					continue
+				}
+				vars[varHz] = hz
+				part := Partial{Hz: hz, Group: gi, Harmonic: src.n, Pan: pan}
+				if voices > 1 {
+					// Copies fan out across the field around the partial.
+					part.Pan = max(-1, min(1, pan+g.Unison.Width*(2*float64(v)/float64(voices-1)-1)))
+				}
+				if !x.shape(&part, g, src, vars, n) {
+					continue
+				}
+				part.Amplitude *= src.weight * math.Pow(10, tilt*math.Log2(ratio)/20) * bodyGain(p.Body, hz) / math.Sqrt(float64(voices))
+				if part.Amplitude == 0 {
+					continue
+				}
+				if g.PhaseRule == PhaseRandom {
+					part.Phase = 2 * math.Pi * unitFloat(deriveSeed(n.Seed, seedPhase, uint64(gi), uint64(src.index), uint64(v)))
+				}
+				if hz > fadeStart {
+					// Raised-cosine taper from 1 at fadeStart to 0 at the limit, so a
+					// partial fades out gradually as roots rise instead of vanishing.
+					part.Amplitude *= 0.5 * (1 + math.Cos(math.Pi*(hz-fadeStart)/(limit-fadeStart)))
+					n.Faded++
+				}
+				n.Partials = append(n.Partials, part)
 			}
-			if hz > fadeStart {
-				// Raised-cosine taper from 1 at fadeStart to 0 at the limit, so a
-				// partial fades out gradually as roots rise instead of vanishing.
-				part.Amplitude *= 0.5 * (1 + math.Cos(math.Pi*(hz-fadeStart)/(limit-fadeStart)))
-				n.Faded++
-			}
-			n.Partials = append(n.Partials, part)
 		}
+		if g.PhaseRule == PhaseSchroeder {
+			shift := 0.0
+			if n.Variations > 1 {
+				shift = unitFloat(deriveSeed(n.Seed, seedSchroederShift, uint64(gi)))
+			}
+			schroederPhases(n.Partials[first:], n.F0, shift)
+		}
+	}
+}
+
+// shape evaluates a partial's amplitude, phase and envelope.
+func (x *expander) shape(part *Partial, g *Group, src source, vars []float64, n *Note) bool {
+	ok := x.eval(&part.Amplitude, g.Amplitude, vars, n, math.Inf(-1), math.Inf(1), "")
+	if len(g.Amplitudes) > 0 {
+		a := 0.0
+		ok = x.eval(&a, g.Amplitudes[src.index], vars, n, math.Inf(-1), math.Inf(1), "") && ok
+		part.Amplitude *= a
+	}
+	if g.PhaseRule == PhaseValue {
+		phaseDeg := 0.0
+		ok = x.eval(&phaseDeg, g.Phase, vars, n, math.Inf(-1), math.Inf(1), "") && ok
+		part.Phase = phaseDeg * math.Pi / 180
+	}
+	e := &g.Envelope
+	ok = x.eval(&part.Envelope.Attack, e.Attack, vars, n, 0, MaxSeconds, " s") && ok
+	ok = x.eval(&part.Envelope.Decay, e.Decay, vars, n, 0, MaxSeconds, " s") && ok
+	ok = x.eval(&part.Envelope.Sustain, e.Sustain, vars, n, 0, 1, "") && ok
+	ok = x.eval(&part.Envelope.Release, e.Release, vars, n, 0, MaxSeconds, " s") && ok
+	return ok
+}
+
+// ratioSpan is the range of log ratios of a group's partials, for the
+// ratio pan rule.
+func ratioSpan(srcs []source) (lo, hi float64) {
+	lo, hi = math.Inf(1), math.Inf(-1)
+	for _, s := range srcs {
+		lo, hi = min(lo, math.Log(s.ratio)), max(hi, math.Log(s.ratio))
+	}
+	return lo, hi
+}
+
+// panByRule places a partial by its group's pan rule. Positions depend on
+// the partial's place in its group and the patch seed only, so a partial
+// stays where it is from key to key.
+func (x *expander) panByRule(g *Group, gi int, src source, logLow, logHigh float64) float64 {
+	w := g.PanWidth
+	switch g.PanRule {
+	case PanAlternate:
+		if src.index%2 == 0 {
+			return -w
+		}
+		return w
+	case PanRandom:
+		return w * (2*unitFloat(deriveSeed(x.patch.Seed, seedPan, uint64(gi), uint64(src.index))) - 1)
+	case PanRatio:
+		if logHigh <= logLow {
+			return 0
+		}
+		return w * (2*(math.Log(src.ratio)-logLow)/(logHigh-logLow) - 1)
+	}
+	return 0
+}
+
+// schroederPhases sets the phases of parts by Schroeder's rule for a low
+// peak factor (M. R. Schroeder, "Synthesis of low-peak-factor signals and
+// binary sequences with low autocorrelation", IEEE Trans. Information
+// Theory 16, 1970): φ_k = −2π Σ_{l<k} (k − l)·p_l, with p_l the share of
+// partial l in the total power; for N equal partials this is
+// φ_k = −π·k(k − 1)/N. shift, a fraction of the fundamental's period,
+// moves the whole waveform in time, which keeps its peak factor: round
+// robins use it to differ.
+func schroederPhases(parts []Partial, f0, shift float64) {
+	power := 0.0
+	for _, p := range parts {
+		power += p.Amplitude * p.Amplitude
+	}
+	if power == 0 {
+		return
+	}
+	// Σ_{l<k} (k−l)·p_l grows by Σ_{l<k} p_l from k to k+1.
+	sum, below := 0.0, 0.0
+	for k := range parts {
+		parts[k].Phase = math.Mod(-2*math.Pi*sum+2*math.Pi*parts[k].Hz/f0*shift, 2*math.Pi)
+		below += parts[k].Amplitude * parts[k].Amplitude / power
+		sum += below
 	}
 }
 

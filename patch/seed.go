@@ -23,11 +23,16 @@ func deriveSeed(parts ...uint64) uint64 {
 	return h
 }
 
-// randomizePhases offsets every partial's phase by a uniform random angle
-// drawn from the note's seed, so round-robin variations share a spectrum
-// but not a waveform.
-func randomizePhases(n *Note) {
+// randomizePhases offsets the phase of every partial whose group sets its
+// phases by value by a uniform random angle drawn from the note's seed, so
+// round-robin variations share a spectrum but not a waveform. Random
+// phases already differ between variations, and Schroeder phases are
+// shifted in time instead, which keeps their low peak factor.
+func (x *expander) randomizePhases(n *Note) {
 	for i := range n.Partials {
+		if x.patch.Groups[n.Partials[i].Group].PhaseRule != PhaseValue {
+			continue
+		}
 		u := float64(deriveSeed(n.Seed, uint64(i))>>11) / (1 << 53)
 		n.Partials[i].Phase = math.Mod(n.Partials[i].Phase+2*math.Pi*u, 2*math.Pi)
 	}

@@ -83,6 +83,9 @@ type Renderer struct {
 	tuned         patch.Note
 	tunedPartials []patch.Partial
 	continuation  []float64
+	// Scratch for stereo: the note of one channel pass and its partials.
+	channelNote     patch.Note
+	channelPartials []patch.Partial
 }
 
 // Frames returns the length of dst that Render needs for n.
@@ -102,25 +105,91 @@ func (r *Renderer) renderFrom(dst []float64, n *patch.Note, from int) Stats {
 	if len(dst) != Frames(n) {
 		panic("synth: Render destination has the wrong length")
 	}
-	mono := dst
-	if n.Channels > 1 {
-		if cap(r.mono) < n.Frames {
-			r.mono = make([]float64, n.Frames)
-		}
-		mono = r.mono[:n.Frames]
+	first := from / BlockFrames * BlockFrames
+	if n.Channels == 1 {
+		clear(dst)
+		return r.renderMono(dst, n, first)
 	}
-	clear(mono)
-	stats := r.renderMono(mono, n, from/BlockFrames*BlockFrames)
-	if n.Channels > 1 {
-		// Partials have no position in the field yet, so every channel
-		// carries the same signal.
-		for i, v := range mono {
-			for c := range n.Channels {
-				dst[i*n.Channels+c] = v
+	if cap(r.mono) < n.Frames {
+		r.mono = make([]float64, n.Frames)
+	}
+	mono := r.mono[:n.Frames]
+	var stats Stats
+	clear(dst)
+	// Partials at the centre are rendered once for both channels; the
+	// others once per channel, each at its channel's gain.
+	passes, scratch := stereoPasses(r.channelPartials[:0], n)
+	r.channelPartials = scratch
+	for pass, part := range passes {
+		if len(part.partials) == 0 {
+			continue
+		}
+		r.channelNote = *n
+		r.channelNote.Partials = part.partials
+		clear(mono)
+		s := r.renderMono(mono, &r.channelNote, first)
+		stats.PartialSamples += s.PartialSamples
+		stats.Nominal += s.Nominal
+		if pass == 0 {
+			for i, v := range mono {
+				dst[2*i] += v
+				dst[2*i+1] += v
 			}
+			continue
+		}
+		for i, v := range mono {
+			dst[2*i+part.channel] += v
 		}
 	}
 	return stats
+}
+
+// PanGains returns the left and right gains of the constant-power pan law
+// for a position from −1 (left) to 1 (right): cos and sin of
+// (pan + 1)·π/4, so the power cos² + sin² is the same everywhere and the
+// centre is √½ (−3 dB) in each channel (common practice).
+func PanGains(pan float64) (left, right float64) {
+	return math.Cos((pan + 1) * math.Pi / 4), math.Sin((pan + 1) * math.Pi / 4)
+}
+
+// stereoPass is one mono render of a stereo note: the partials with their
+// channel gains applied, and the channel they go to (pass 0, the centre,
+// goes to both).
+type stereoPass struct {
+	partials []patch.Partial
+	channel  int
+}
+
+// stereoPasses splits n's partials into the centre pass and one pass per
+// channel, appending the scaled copies to scratch, which it returns.
+func stereoPasses(scratch []patch.Partial, n *patch.Note) ([3]stereoPass, []patch.Partial) {
+	var passes [3]stereoPass
+	start := len(scratch)
+	for _, p := range n.Partials {
+		if p.Pan == 0 {
+			q := p
+			q.Amplitude *= math.Sqrt2 / 2
+			scratch = append(scratch, q)
+		}
+	}
+	passes[0] = stereoPass{partials: scratch[start:len(scratch):len(scratch)]}
+	for c := range 2 {
+		start = len(scratch)
+		for _, p := range n.Partials {
+			if p.Pan != 0 {
+				left, right := PanGains(p.Pan)
+				gain := [2]float64{left, right}[c]
+				if math.Abs(gain) < 1e-12 { // cos(π/2) rounds to 6e-17, not 0
+					continue
+				}
+				q := p
+				q.Amplitude *= gain
+				scratch = append(scratch, q)
+			}
+		}
+		passes[1+c] = stereoPass{partials: scratch[start:len(scratch):len(scratch)], channel: c}
+	}
+	return passes, scratch
 }
 
 func (r *Renderer) renderMono(out []float64, n *patch.Note, first int) Stats {

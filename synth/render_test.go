@@ -803,32 +803,56 @@ func TestDeterministic(t *testing.T) {
 // each channel matching the math.Sin reference.
 func TestStereo(t *testing.T) {
 	const rate, frames = 48000, 4800
-	partials := []patch.Partial{sine(440, 0.5, 0.3), sine(1000, 0.25, 0), sine(3000, 0.1, 1), sine(5000, 0.1, 2), sine(7000, 0.05, 3)}
+	// Constant-power pan law (common practice): left = cos((p+1)·π/4),
+	// right = sin((p+1)·π/4), so the centre is √½ (−3.01 dB) in each
+	// channel and the extremes put everything in one channel.
+	half := math.Sqrt2 / 2
+	cases := []struct {
+		pan         float64
+		left, right float64
+	}{
+		{0, half, half},
+		{-1, 1, 0},
+		{1, 0, 1},
+		{0.5, math.Cos(3 * math.Pi / 8), math.Sin(3 * math.Pi / 8)},
+	}
+	for _, c := range cases {
+		l, r := synth.PanGains(c.pan)
+		if math.Abs(l-c.left) > 1e-15 || math.Abs(r-c.right) > 1e-15 || math.Abs(l*l+r*r-1) > 1e-15 {
+			t.Errorf("PanGains(%g) = %v, %v; want %v, %v with power 1", c.pan, l, r, c.left, c.right)
+		}
+	}
+	// Partials at every position of the table, rendered together: each
+	// channel must be the sum of each partial times its channel gain.
+	var partials []patch.Partial
+	for i, hz := range []float64{440, 1000, 3000, 5000, 7000, 9000} {
+		p := sine(hz, 0.3/float64(i+1), float64(i))
+		p.Pan = cases[i%len(cases)].pan
+		partials = append(partials, p)
+	}
 	st := &patch.Note{SampleRate: rate, Channels: 2, Frames: frames, NoteOff: frames, Partials: partials}
 	buf := render(st)
 	if len(buf) != 2*frames {
 		t.Fatalf("stereo buffer holds %d samples, want %d", len(buf), 2*frames)
 	}
-	mono := render(monoNote(rate, frames, partials...))
 	refs := make([]cycleRef, len(partials))
 	for i, p := range partials {
 		refs[i] = newCycleRef(t, p.Hz, rate)
 	}
 	for i := range frames {
-		l, r := buf[2*i], buf[2*i+1]
-		if l != r {
-			t.Fatalf("frame %d: left %v, right %v", i, l, r)
-		}
-		if l != mono[i] {
-			t.Fatalf("frame %d: stereo %v, mono render %v", i, l, mono[i])
-		}
-		want := 0.0
+		var wantL, wantR float64
 		for j, p := range partials {
-			want += p.Amplitude * refs[j].sin(i, p.Phase)
+			g := cases[j%len(cases)]
+			v := p.Amplitude * refs[j].sin(i, p.Phase)
+			wantL += g.left * v
+			wantR += g.right * v
 		}
-		if math.Abs(l-want) > 1e-10 {
-			t.Fatalf("frame %d: %v, reference %v", i, l, want)
+		if math.Abs(buf[2*i]-wantL) > 1e-12 || math.Abs(buf[2*i+1]-wantR) > 1e-12 {
+			t.Fatalf("frame %d: left %v right %v, reference %v %v", i, buf[2*i], buf[2*i+1], wantL, wantR)
 		}
+	}
+	if w, s := synth.Work(st), (&synth.Renderer{}).Render(make([]float64, 2*frames), st); w != s {
+		t.Errorf("Work %+v, Render %+v", w, s)
 	}
 }
 

@@ -1,6 +1,7 @@
 package synth
 
 import (
+	"math"
 	"sort"
 
 	"sinter/patch"
@@ -13,12 +14,67 @@ import (
 // finds it in a dozen envelope evaluations. RenderLooped adds the
 // continuation after a crossfade loop, which Work leaves out.
 func Work(n *patch.Note) Stats {
-	stats := Stats{Nominal: int64(len(n.Partials)) * int64(n.Frames)}
+	if n.Channels == 1 {
+		return workOf(n.Partials, n)
+	}
+	var stats Stats
+	passes, _ := stereoPasses(nil, n)
+	for _, pass := range passes {
+		s := workOf(pass.partials, n)
+		stats.PartialSamples += s.PartialSamples
+		if len(pass.partials) > 0 {
+			stats.Nominal += s.Nominal
+		}
+	}
+	return stats
+}
+
+func workOf(partials []patch.Partial, n *patch.Note) Stats {
+	stats := Stats{Nominal: int64(len(partials)) * int64(n.Frames)}
 	blocks := (n.Frames + BlockFrames - 1) / BlockFrames
-	for _, p := range n.Partials {
+	for _, p := range partials {
 		o := oscillator{amp: p.Amplitude, env: newEnvelope(p.Envelope, float64(n.SampleRate), float64(n.NoteOff)), endPos: -1}
 		audible := sort.Search(blocks, func(b int) bool { return !o.audible(b * BlockFrames) })
 		stats.PartialSamples += int64(min(n.Frames, audible*BlockFrames))
 	}
 	return stats
+}
+
+// CrestFactor returns the peak over the RMS of buf, in dB (common
+// practice: a sine is 3.01 dB); 0 for silence.
+func CrestFactor(buf []float64) float64 {
+	peak, sum := 0.0, 0.0
+	for _, v := range buf {
+		peak = max(peak, math.Abs(v))
+		sum += v * v
+	}
+	if sum == 0 {
+		return 0
+	}
+	return 20 * math.Log10(peak/math.Sqrt(sum/float64(len(buf))))
+}
+
+// timbreSeconds is how much of a note TimbreCrestFactor renders.
+const timbreSeconds = 0.25
+
+// TimbreCrestFactor returns the crest factor, in dB, of n's partials
+// sounding together at full amplitude with no envelope, over the first
+// quarter second (mixed to mono): what the partials' amplitudes and
+// phases give, before the envelopes shape it. Phase rules change it; a
+// lower crest factor lets peak levelling make a set louder at the same
+// peak.
+func TimbreCrestFactor(n *patch.Note) float64 {
+	flat := *n
+	flat.Channels = 1
+	flat.Frames = min(n.Frames, max(1, int(timbreSeconds*float64(n.SampleRate))))
+	flat.NoteOff = flat.Frames
+	flat.Partials = make([]patch.Partial, len(n.Partials))
+	for i, p := range n.Partials {
+		p.Envelope = patch.Envelope{Sustain: 1, Release: 1}
+		flat.Partials[i] = p
+	}
+	buf := make([]float64, flat.Frames)
+	var r Renderer
+	r.Render(buf, &flat)
+	return CrestFactor(buf)
 }

@@ -84,6 +84,7 @@ type keyPlan struct {
 	Faded     int       `json:"partials_faded"`
 	Dropped   int       `json:"partials_dropped"`
 	HighestHz float64   `json:"highest_hz"`
+	CrestDB   float64   `json:"crest_factor_db"` // of the partials without envelopes
 	Loop      *loopPlan `json:"loop,omitempty"`
 }
 
@@ -118,7 +119,8 @@ func summarize(plan *patch.Plan, p *patch.Patch) planSummary {
 			continue
 		}
 		s.Keys++
-		row := keyPlan{Key: n.Key, Note: patch.NoteName(n.Key), F0: n.F0, Kept: len(n.Partials), Faded: n.Faded, Dropped: n.Dropped}
+		row := keyPlan{Key: n.Key, Note: patch.NoteName(n.Key), F0: n.F0, Kept: len(n.Partials), Faded: n.Faded, Dropped: n.Dropped,
+			CrestDB: math.Round(synth.TimbreCrestFactor(n)*100) / 100}
 		for _, part := range n.Partials {
 			row.HighestHz = max(row.HighestHz, part.Hz)
 		}
@@ -162,7 +164,7 @@ func printPlan(w io.Writer, s *planSummary) {
 	}
 	fmt.Fprintf(w, "  levelling: %s; dither %s\n", s.Levelling, dither)
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
-	fmt.Fprintln(tw, "key\tmidi\tf0 Hz\tkept\tfaded\tdropped\thighest Hz\tloop s\tloop kind\tpitch error\t")
+	fmt.Fprintln(tw, "key\tmidi\tf0 Hz\tkept\tfaded\tdropped\thighest Hz\tcrest dB\tloop s\tloop kind\tpitch error\t")
 	for _, k := range s.PerKey {
 		loopSpan, kind, cents := "-", "-", "-"
 		if l := k.Loop; l != nil {
@@ -174,7 +176,7 @@ func printPlan(w io.Writer, s *planSummary) {
 				cents = fmt.Sprintf("%+.4f c", l.RetuneCents)
 			}
 		}
-		fmt.Fprintf(tw, "%s\t%d\t%.2f\t%d\t%d\t%d\t%.0f\t%s\t%s\t%s\t\n", k.Note, k.Key, k.F0, k.Kept, k.Faded, k.Dropped, k.HighestHz, loopSpan, kind, cents)
+		fmt.Fprintf(tw, "%s\t%d\t%.2f\t%d\t%d\t%d\t%.0f\t%.1f\t%s\t%s\t%s\t\n", k.Note, k.Key, k.F0, k.Kept, k.Faded, k.Dropped, k.HighestHz, k.CrestDB, loopSpan, kind, cents)
 	}
 	tw.Flush()
 }

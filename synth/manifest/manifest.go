@@ -45,7 +45,8 @@ type File struct {
 	PeakDBFS      float64 `json:"peak_dbfs"`
 	TruePeakDBTP  float64 `json:"true_peak_dbtp"`
 	LoudnessLUFS  float64 `json:"loudness_lufs"`
-	GainDB        float64 `json:"gain_db"` // levelling gain applied to this file
+	CrestFactorDB float64 `json:"crest_factor_db"` // peak over RMS; 0 for silence
+	GainDB        float64 `json:"gain_db"`         // levelling gain applied to this file
 	Partials      int     `json:"partials"`
 	Loop          *Loop   `json:"loop,omitempty"`
 	SHA256        string  `json:"sha256"`

@@ -253,6 +253,7 @@ func (b *build) finish(w *worker, i int, buf []float64) error {
 		return err
 	}
 	b.manifest.Files[i] = manifestEntry(n, b.plan.BitDepth, frames, b.gains[i], lv, buf, loop)
+	b.manifest.Files[i].CrestFactorDB = math.Round(synth.CrestFactor(buf)*1000) / 1000
 	b.manifest.Files[i].SHA256 = sum
 	if b.opts.Progress != nil {
 		b.progressMu.Lock()
