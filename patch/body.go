@@ -11,25 +11,43 @@ import (
 // frequencies.
 func (d *decoder) body(n *yaml.Node, path string) []BodyPoint {
 	var points []BodyPoint
+	d.points(n, path, axis{"hz", "frequency", " Hz", 1, 1e6, 800}, axis{"dB", "level", " dB", -200, 60, 6}, func(x, y float64) {
+		points = append(points, BodyPoint{Hz: x, DB: y})
+	})
+	return points
+}
+
+// axis describes one coordinate of a breakpoint for points: its name in
+// the example point, the noun for it, its unit as range errors print it,
+// its range and an example value.
+type axis struct {
+	name, noun, unit string
+	lo, hi, example  float64
+}
+
+// points reads a list of [x, y] breakpoints whose x rise, calling add for
+// each good one in order.
+func (d *decoder) points(n *yaml.Node, path string, x, y axis, add func(x, y float64)) {
+	last := math.Inf(-1)
 	for i, item := range d.list(n, path) {
 		sub := fmt.Sprintf("%s[%d]", path, i)
 		pair := d.resolve(item)
 		if pair.Kind != yaml.SequenceNode || len(pair.Content) != 2 {
-			d.errorf(pair, sub, "expected a point [hz, dB] such as [800, 6], found %s", describe(pair))
+			d.errorf(pair, sub, "expected a point [%s, %s] such as [%g, %g], found %s", x.name, y.name, x.example, y.example, describe(pair))
 			continue
 		}
-		hz, ok1 := d.ranged(pair.Content[0], sub+"[0]", 1, 1e6, " Hz")
-		db, ok2 := d.ranged(pair.Content[1], sub+"[1]", -200, 60, " dB")
+		px, ok1 := d.ranged(pair.Content[0], sub+"[0]", x.lo, x.hi, x.unit)
+		py, ok2 := d.ranged(pair.Content[1], sub+"[1]", y.lo, y.hi, y.unit)
 		if !ok1 || !ok2 {
 			continue
 		}
-		if len(points) > 0 && hz <= points[len(points)-1].Hz {
-			d.errorf(pair.Content[0], sub+"[0]", "the points must rise in frequency: %g Hz follows %g Hz", hz, points[len(points)-1].Hz)
+		if px <= last {
+			d.errorf(pair.Content[0], sub+"[0]", "the points must rise in %s: %g%s follows %g%s", x.noun, px, x.unit, last, x.unit)
 			continue
 		}
-		points = append(points, BodyPoint{Hz: hz, DB: db})
+		last = px
+		add(px, py)
 	}
-	return points
 }
 
 // bodyGain is the gain of the spectral envelope at hz: the dB of the points
@@ -39,19 +57,24 @@ func bodyGain(points []BodyPoint, hz float64) float64 {
 	if len(points) == 0 {
 		return 1
 	}
-	db := points[0].DB
-	switch last := points[len(points)-1]; {
-	case hz <= points[0].Hz:
-	case hz >= last.Hz:
-		db = last.DB
-	default:
-		i := 1
-		for points[i].Hz < hz {
-			i++
-		}
-		a, b := points[i-1], points[i]
-		u := math.Log(hz/a.Hz) / math.Log(b.Hz/a.Hz)
-		db = a.DB + u*(b.DB-a.DB)
-	}
+	db := heldLinear(len(points), math.Log(hz), func(i int) (float64, float64) { return math.Log(points[i].Hz), points[i].DB })
 	return math.Pow(10, db/20)
+}
+
+// heldLinear interpolates the count breakpoints that point returns, in
+// rising x, linearly at x, holding the first value before them and the
+// last after them.
+func heldLinear(count int, x float64, point func(i int) (x, y float64)) float64 {
+	x0, y0 := point(0)
+	if x <= x0 {
+		return y0
+	}
+	for i := 1; i < count; i++ {
+		x1, y1 := point(i)
+		if x < x1 {
+			return y0 + (y1-y0)*(x-x0)/(x1-x0)
+		}
+		x0, y0 = x1, y1
+	}
+	return y0
 }

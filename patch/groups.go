@@ -9,7 +9,8 @@ import (
 )
 
 var groupKeys = []string{"harmonics", "ratio", "ratios", "modes", "spectrum", "cluster",
-	"count", "amplitude", "amplitudes", "phase", "envelope", "stiffness", "tilt", "detune", "unison", "pan"}
+	"count", "amplitude", "amplitudes", "phase", "envelope", "stiffness", "tilt", "detune", "unison", "pan",
+	"pitch", "vibrato", "drift"}
 
 // groupKinds are the keys of which a group has exactly one.
 var groupKinds = []string{"harmonics", "ratio", "ratios", "modes", "spectrum", "cluster"}
@@ -170,6 +171,12 @@ func (d *decoder) group(item *yaml.Node, path string, defaults EnvelopeSpec) Gro
 			d.unison(v, path, &g)
 		case "pan":
 			d.pan(v, path, &g)
+		case "pitch":
+			g.Pitch = d.pitch(v, path)
+		case "vibrato":
+			g.Vibrato = d.vibrato(v, path)
+		case "drift":
+			g.Drift = d.drift(v, path)
 		}
 		if slices.Contains(groupKinds, key) {
 			kinds = append(kinds, key)
@@ -345,4 +352,40 @@ func (d *decoder) envelope(n *yaml.Node, path string, defaults EnvelopeSpec) Env
 		}
 	})
 	return env
+}
+
+// pitch reads a pitch envelope: [[seconds, cents], …] with rising times.
+func (d *decoder) pitch(n *yaml.Node, path string) []PitchPoint {
+	var points []PitchPoint
+	d.points(n, path, axis{"seconds", "time", " s", 0, MaxSeconds, 0.1}, axis{"cents", "pitch", " cents", -4800, 4800, -30}, func(x, y float64) {
+		points = append(points, PitchPoint{Time: x, Cents: y})
+	})
+	return points
+}
+
+// vibrato reads {rate, depth, delay, fade}.
+func (d *decoder) vibrato(n *yaml.Node, path string) *VibratoSpec {
+	v := &VibratoSpec{Rate: constValue(5), Depth: constValue(10), Delay: constValue(0), Fade: constValue(0)}
+	d.valueFields(n, path, map[string]*Value{"rate": &v.Rate, "depth": &v.Depth, "delay": &v.Delay, "fade": &v.Fade})
+	return v
+}
+
+// drift reads {rate, depth}.
+func (d *decoder) drift(n *yaml.Node, path string) *DriftSpec {
+	v := &DriftSpec{Rate: constValue(0.5), Depth: constValue(5)}
+	d.valueFields(n, path, map[string]*Value{"rate": &v.Rate, "depth": &v.Depth})
+	return v
+}
+
+// valueFields reads a mapping whose keys are all Values (numbers or
+// expressions, no dB) into the fields given by name.
+func (d *decoder) valueFields(n *yaml.Node, path string, fields map[string]*Value) {
+	keys := make([]string, 0, len(fields))
+	for k := range fields {
+		keys = append(keys, k)
+	}
+	slices.Sort(keys)
+	d.fields(n, path, keys, func(key string, node *yaml.Node, path string) {
+		*fields[key], _ = d.value(node, path, false)
+	})
 }

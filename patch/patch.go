@@ -127,6 +127,20 @@ type Group struct {
 	PanRule      PanRule
 	Pan          Value   // −1..1, for PanValue
 	PanWidth     float64 // 0..1, for the other pan rules
+	Pitch        []PitchPoint
+	Vibrato      *VibratoSpec // nil for none
+	Drift        *DriftSpec   // nil for none
+}
+
+// VibratoSpec is a vibrato as written; each setting a number or an
+// expression.
+type VibratoSpec struct {
+	Rate, Depth, Delay, Fade Value
+}
+
+// DriftSpec is a drift as written.
+type DriftSpec struct {
+	Rate, Depth Value
 }
 
 // BodyPoint is one breakpoint of a spectral envelope fixed in frequency.

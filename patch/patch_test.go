@@ -443,6 +443,14 @@ partials:
 		line: 3, column: 15, path: "partials[0].cluster", msg: "the cluster's range runs from 4 down to 2",
 	},
 	{
+		name: "pitch points not rising",
+		src: `name: harbor-glass
+partials:
+  - {ratio: 1, pitch: [[0.2, -30], [0.1, 0]]}
+`,
+		line: 3, column: 37, path: "partials[0].pitch[1][0]", msg: "the points must rise in time: 0.1 s follows 0.2 s",
+	},
+	{
 		name: "group with harmonics and ratio",
 		src: `name: harbor-glass
 partials:

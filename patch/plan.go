@@ -60,6 +60,38 @@ type Partial struct {
 	Group     int     // index in the patch's partials list
 	Harmonic  float64 // n in expressions: harmonic number, 1 for a ratio partial
 	Pan       float64 // −1 left … 1 right, for stereo files
+	// Motion moves the partial's frequency over time; nil holds it at Hz.
+	Motion *Motion
+}
+
+// Motion is a partial's frequency motion: its deviation from Hz in cents
+// at time t is the pitch envelope plus the vibrato plus the drift.
+type Motion struct {
+	Pitch   []PitchPoint // linear between points, held before the first and after the last
+	Vibrato Vibrato
+	Drift   Drift
+	// MaxCents is the most the three together can raise the partial: what
+	// the band limit is checked against.
+	MaxCents float64
+}
+
+// PitchPoint is one breakpoint of a pitch envelope.
+type PitchPoint struct {
+	Time  float64 // seconds from note-on
+	Cents float64
+}
+
+// Vibrato is a sine deviation of Depth cents at Rate Hz that starts after
+// Delay seconds and grows to full depth over Fade seconds.
+type Vibrato struct {
+	Rate, Depth, Delay, Fade float64
+}
+
+// Drift is a slow random deviation within ±Depth cents whose value changes
+// about Rate times a second: smooth value noise, drawn from Seed.
+type Drift struct {
+	Rate, Depth float64
+	Seed        uint64
 }
 
 // LoopRequest is the sustain loop asked for one note, in frames; the
@@ -223,6 +255,7 @@ const (
 	seedPan
 	seedPhase
 	seedSchroederShift
+	seedDrift
 )
 
 // source is one partial of a group before shaping: its number n in the
@@ -339,12 +372,22 @@ func (x *expander) partials(n *Note) {
 					cents += g.Unison.Spread * spread
 				}
 				hz := ratio * n.F0 * math.Exp2(cents/1200)
-				if hz >= limit {
+				vars[varHz] = hz
+				motion, ok := x.motion(g, gi, src, v, vars, n)
+				if !ok {
+					continue
+				}
+				// The band limit holds for the highest frequency the partial
+				// reaches as it moves, so no motion can alias.
+				top := hz
+				if motion != nil {
+					top *= math.Exp2(motion.MaxCents / 1200)
+				}
+				if top >= limit {
 					n.Dropped++
 					continue
 				}
-				vars[varHz] = hz
-				part := Partial{Hz: hz, Group: gi, Harmonic: src.n, Pan: pan}
+				part := Partial{Hz: hz, Group: gi, Harmonic: src.n, Pan: pan, Motion: motion}
 				if voices > 1 {
 					// Copies fan out across the field around the partial.
 					part.Pan = max(-1, min(1, pan+g.Unison.Width*(2*float64(v)/float64(voices-1)-1)))
@@ -359,10 +402,10 @@ func (x *expander) partials(n *Note) {
 				if g.PhaseRule == PhaseRandom {
 					part.Phase = 2 * math.Pi * unitFloat(deriveSeed(n.Seed, seedPhase, uint64(gi), uint64(src.index), uint64(v)))
 				}
-				if hz > fadeStart {
+				if top > fadeStart {
 					// Raised-cosine taper from 1 at fadeStart to 0 at the limit, so a
 					// partial fades out gradually as roots rise instead of vanishing.
-					part.Amplitude *= 0.5 * (1 + math.Cos(math.Pi*(hz-fadeStart)/(limit-fadeStart)))
+					part.Amplitude *= 0.5 * (1 + math.Cos(math.Pi*(top-fadeStart)/(limit-fadeStart)))
 					n.Faded++
 				}
 				n.Partials = append(n.Partials, part)
@@ -376,6 +419,32 @@ func (x *expander) partials(n *Note) {
 			schroederPhases(n.Partials[first:], n.F0, shift)
 		}
 	}
+}
+
+// motion evaluates a group's motion for one partial; nil when it has none.
+func (x *expander) motion(g *Group, gi int, src source, voice int, vars []float64, n *Note) (*Motion, bool) {
+	if len(g.Pitch) == 0 && g.Vibrato == nil && g.Drift == nil {
+		return nil, true
+	}
+	m := &Motion{Pitch: g.Pitch}
+	ok := true
+	if v := g.Vibrato; v != nil {
+		ok = x.eval(&m.Vibrato.Rate, v.Rate, vars, n, 0, 100, " Hz") && ok
+		ok = x.eval(&m.Vibrato.Depth, v.Depth, vars, n, 0, 1200, " cents") && ok
+		ok = x.eval(&m.Vibrato.Delay, v.Delay, vars, n, 0, MaxSeconds, " s") && ok
+		ok = x.eval(&m.Vibrato.Fade, v.Fade, vars, n, 0, MaxSeconds, " s") && ok
+	}
+	if d := g.Drift; d != nil {
+		ok = x.eval(&m.Drift.Rate, d.Rate, vars, n, 0, 100, " Hz") && ok
+		ok = x.eval(&m.Drift.Depth, d.Depth, vars, n, 0, 1200, " cents") && ok
+		m.Drift.Seed = deriveSeed(n.Seed, seedDrift, uint64(gi), uint64(src.index), uint64(voice))
+	}
+	highest := 0.0
+	for _, p := range m.Pitch {
+		highest = max(highest, p.Cents)
+	}
+	m.MaxCents = highest + m.Vibrato.Depth + m.Drift.Depth
+	return m, ok
 }
 
 // shape evaluates a partial's amplitude, phase and envelope.
@@ -520,4 +589,32 @@ func (x *expander) loopError(msg string) {
 	x.reported["loop"] = true
 	spec := x.patch.Loop
 	x.errs = append(x.errs, &Error{File: x.patch.File, Line: spec.Line, Column: spec.Column, Path: "loop", Msg: msg})
+}
+
+// Cents returns the motion's deviation in cents at t seconds after
+// note-on: the pitch envelope, plus the vibrato once its delay has passed
+// (its depth growing linearly over the fade), plus the drift, value noise
+// whose knots, one every 1/Rate seconds, are uniform in ±1 and joined by
+// smoothstep curves, so it never leaves ±Depth.
+func (m *Motion) Cents(t float64) float64 {
+	c := 0.0
+	if pts := m.Pitch; len(pts) > 0 {
+		c = heldLinear(len(pts), t, func(i int) (float64, float64) { return pts[i].Time, pts[i].Cents })
+	}
+	if v := m.Vibrato; v.Depth != 0 && t > v.Delay {
+		depth := v.Depth
+		if v.Fade > 0 {
+			depth *= min(1, (t-v.Delay)/v.Fade)
+		}
+		c += depth * math.Sin(2*math.Pi*v.Rate*(t-v.Delay))
+	}
+	if d := m.Drift; d.Depth != 0 && d.Rate > 0 {
+		x := t * d.Rate
+		k := math.Floor(x)
+		f := x - k
+		knot := func(k float64) float64 { return 2*unitFloat(deriveSeed(d.Seed, uint64(int64(k)))) - 1 }
+		a, b := knot(k), knot(k+1)
+		c += d.Depth * (a + (b-a)*f*f*(3-2*f))
+	}
+	return c
 }

@@ -508,6 +508,21 @@ func TestExpandOutOfRange(t *testing.T) {
 			src:  "name: x\npartials:\n  - harmonics: 4\n    envelope: {decay: n - 3}\n",
 			line: 4, column: 23, path: "partials[0].envelope.decay", msg: []string{`"n - 3" -2 is outside 0..600 s`, "harmonic n=1"},
 		},
+		{
+			name: "vibrato deeper than an octave",
+			src:  "name: x\npartials:\n  - {ratio: 1, vibrato: {depth: \"3000*vel\"}}\n",
+			line: 3, column: 34, path: "partials[0].vibrato.depth", msg: []string{"is outside 0..1200 cents"},
+		},
+		{
+			name: "stiffness negative",
+			src:  "name: x\npartials:\n  - {harmonics: 3, stiffness: -0.01}\n",
+			line: 3, column: 31, path: "partials[0].stiffness", msg: []string{"-0.01 is outside 0..1"},
+		},
+		{
+			name: "pan past the right",
+			src:  "name: x\nchannels: 2\npartials:\n  - {harmonics: 3, pan: \"n/2\"}\n",
+			line: 4, column: 26, path: "partials[0].pan", msg: []string{`"n/2" 1.5 is outside -1..1`, "harmonic n=3"},
+		},
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {

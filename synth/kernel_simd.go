@@ -123,9 +123,10 @@ func (r *Renderer) renderBlock(out []float64, b0, b1 int) {
 	jobs := 0
 	for _, i := range r.live {
 		o := &r.osc[i]
-		if o.nextCorner(b0) < b1 {
+		if o.motion != nil || o.nextCorner(b0) < b1 {
 			// A corner of the envelope inside the block needs a span that
-			// ends off the vector grid.
+			// ends off the vector grid; a moving partial changes frequency
+			// every ControlFrames, which the lane tables cannot follow.
 			l.rest = append(l.rest, i)
 			continue
 		}

@@ -74,11 +74,15 @@ func PlanLoop(n *patch.Note) (Loop, bool) {
 }
 
 // harmonic reports whether every partial heard in the sustain is at a whole
-// multiple of F0; partials that have decayed to silence by then do not count.
+// multiple of F0 and holds still; partials that have decayed to silence by
+// then do not count.
 func harmonic(n *patch.Note) bool {
 	for _, p := range n.Partials {
 		if p.Envelope.Sustain == 0 {
 			continue
+		}
+		if p.Motion != nil {
+			return false // a moving partial repeats no whole number of cycles
 		}
 		r := p.Hz / n.F0
 		if math.Abs(r-math.Round(r)) > harmonicTolerance*max(1, r) {

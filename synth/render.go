@@ -59,6 +59,15 @@ type oscillator struct {
 	// corner caches env.nextBreak: the next corner of the envelope after
 	// the samples rendered so far.
 	corner int
+	// A partial with motion has its increment taken at knots every
+	// ControlFrames samples from the note's start: cellPhase is the exact
+	// phase at the knot cellStart, cellInc the increment there and nextInc
+	// the one at the next knot.
+	motion                      *patch.Motion
+	baseHz                      float64
+	rate                        int
+	cellStart                   int
+	cellPhase, cellInc, nextInc uint64
 	// anchorPos is the block start whose phase anchorSin and anchorCos
 	// hold; turnSin and turnCos rotate it by one block.
 	anchorPos                              int
@@ -210,6 +219,10 @@ func (r *Renderer) renderMono(out []float64, n *patch.Note, first int) Stats {
 	for i := range r.osc {
 		o := &r.osc[i]
 		o.turnSin, o.turnCos = sinCos(o.inc * BlockFrames)
+		if m := n.Partials[i].Motion; m != nil {
+			o.motion, o.baseHz, o.rate = m, n.Partials[i].Hz, n.SampleRate
+			o.cellPhase, o.cellInc, o.nextInc = o.phase0, o.incAt(0), o.incAt(ControlFrames)
+		}
 	}
 	r.lanes.prepare(r.osc)
 	frames := len(out)
@@ -234,32 +247,108 @@ func (r *Renderer) renderMono(out []float64, n *patch.Note, first int) Stats {
 // ControlFrames from the block start plus its own corners, whichever
 // partials it is rendered beside and whichever kernel renders it.
 func (r *Renderer) scalarBlock(out []float64, live []int, b0, b1 int) {
-	for _, i := range live {
-		r.osc[i].anchor(b0)
-	}
 	for ; len(live) >= 4; live = live[4:] {
-		if !r.cornerIn(live[:4], b0, b1) {
+		if !r.aloneIn(live[:4], b0, b1) {
+			for _, i := range live[:4] {
+				r.osc[i].anchor(b0)
+			}
 			r.block4(out, live[:4], b0, b1)
 			continue
 		}
 		for _, i := range live[:4] {
-			r.block1(out, &r.osc[i], b0, b1)
+			r.single(out, &r.osc[i], b0, b1)
 		}
 	}
 	for _, i := range live {
-		r.block1(out, &r.osc[i], b0, b1)
+		r.single(out, &r.osc[i], b0, b1)
 	}
 }
 
-// cornerIn reports whether any of the partials idx has a corner of its
-// envelope inside the block [b0, b1).
-func (r *Renderer) cornerIn(idx []int, b0, b1 int) bool {
+// aloneIn reports whether any of the partials idx must be rendered on its
+// own in the block [b0, b1): it has a corner of its envelope inside, or it
+// moves.
+func (r *Renderer) aloneIn(idx []int, b0, b1 int) bool {
 	for _, i := range idx {
-		if r.osc[i].nextCorner(b0) < b1 {
+		if o := &r.osc[i]; o.motion != nil || o.nextCorner(b0) < b1 {
 			return true
 		}
 	}
 	return false
+}
+
+// single renders one partial's block.
+func (r *Renderer) single(out []float64, o *oscillator, b0, b1 int) {
+	if o.motion != nil {
+		r.blockMoving(out, o, b0, b1)
+		return
+	}
+	o.anchor(b0)
+	r.block1(out, o, b0, b1)
+}
+
+// incAt is the per-sample phase increment at sample pos: the partial's
+// frequency moved by its motion at that time.
+func (o *oscillator) incAt(pos int) uint64 {
+	return phaseIncrement(o.baseHz*math.Exp2(o.motion.Cents(float64(pos)/float64(o.rate))/1200), o.rate)
+}
+
+// blockMoving renders a block of a moving partial. Its frequency is taken
+// at knots every ControlFrames samples from the note's start and runs
+// linearly between them, so it has no steps; the phase is the exact
+// integral of that, kept in 64-bit fixed point at each knot, so it is
+// continuous however the frequency moves and whichever blocks are skipped
+// as silent. Within a span a complex rotation follows the chirp.
+func (r *Renderer) blockMoving(out []float64, o *oscillator, b0, b1 int) {
+	for pos := b0; pos < b1; {
+		for pos >= o.cellStart+ControlFrames {
+			// The trapezoid is exact for a frequency linear in time:
+			// ControlFrames·(inc + next)/2.
+			o.cellPhase += (o.cellInc + o.nextInc) * (ControlFrames / 2)
+			o.cellStart += ControlFrames
+			o.cellInc, o.nextInc = o.nextInc, o.incAt(o.cellStart+ControlFrames)
+		}
+		end := o.spanEnd(pos, min(b1, o.cellStart+ControlFrames))
+		n := uint64(pos - o.cellStart)
+		diff := int64(o.nextInc - o.cellInc) // change of the increment over the cell
+		sin, cos := sinCos(o.cellPhase + o.cellInc*n + chirpPhase(diff, n*n))
+		// The step from sample n to n+1 is inc + diff·(2n+1)/(2·ControlFrames)
+		// and grows by diff/ControlFrames each sample.
+		wi, wr := sinCos(o.cellInc + chirpPhase(diff, 2*n+1))
+		di, dr := sinCos(uint64(diff / ControlFrames))
+		o.span(pos, end)
+		kernelChirp(out[pos:end], cos, sin, wr, wi, dr, di, o.gain, o.slope)
+		pos = end
+	}
+}
+
+// chirpPhase is diff·m/(2·ControlFrames) modulo 2^64, in 128-bit
+// arithmetic so no product overflows: with m = n² it is the phase a linear
+// change of the increment by diff over a cell adds in its first n samples,
+// with m = 2n+1 what it adds to the step from sample n to n+1.
+func chirpPhase(diff int64, m uint64) uint64 {
+	mag := uint64(diff)
+	if diff < 0 {
+		mag = -mag
+	}
+	hi, lo := bits.Mul64(mag, m)
+	const shift = 7
+	var _ = [1]struct{}{}[2*ControlFrames-1<<shift] // 2·ControlFrames = 2^shift
+	q := lo>>shift | hi<<(64-shift)
+	if diff < 0 {
+		q = -q
+	}
+	return q
+}
+
+// kernelChirp adds one moving partial into out: z = e^(iθ) turns by w
+// each sample and w by d, and the sample is the gain times Im z = sin θ.
+func kernelChirp(out []float64, zr, zi, wr, wi, dr, di, g, slope float64) {
+	for i := range out {
+		out[i] += g * zi
+		zr, zi = zr*wr-zi*wi, zr*wi+zi*wr
+		wr, wi = wr*dr-wi*di, wr*di+wi*dr
+		g += slope
+	}
 }
 
 // phaseFixed converts radians to the 64-bit phase, at 2^-53 of a cycle: the

@@ -15,5 +15,5 @@ func BenchmarkRenderPlain(b *testing.B) {
 	saved := *synth.UseVectors
 	*synth.UseVectors = false
 	defer func() { *synth.UseVectors = saved }()
-	benchmarkRender(b)
+	benchmarkRender(b, benchNote())
 }

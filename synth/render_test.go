@@ -73,12 +73,20 @@ type accuracyCase struct {
 	partials []patch.Partial
 }
 
+// still gives p a motion that never moves it, so it takes the moving
+// partials' path (knots, chirp rotation) with the exact phase known.
+func still(p patch.Partial) patch.Partial {
+	p.Motion = &patch.Motion{Vibrato: patch.Vibrato{Rate: 5, Depth: 0}}
+	return p
+}
+
 // accuracyCases are single partials at 55, 440, 3520 and 9871.3 Hz, a spread
 // of phases and amplitudes, plus a bank of seven partials so the renderer's
 // four-at-a-time path is checked as well as its single-partial path. 3000
 // and 6000 Hz (times 1 + 1e-6) put eight samples' worth of phase next to π
 // and 2π, the worst case for the vector kernel's stride-8 resonator, whose
-// coefficient 2·cos 8ω is then ill-conditioned.
+// coefficient 2·cos 8ω is then ill-conditioned. The moving-path cases run
+// a partial through the path for partials with motion.
 func accuracyCases(seconds int) []accuracyCase {
 	return []accuracyCase{
 		{"55Hz", 48000, seconds, []patch.Partial{sine(55, 1, 0)}},
@@ -89,6 +97,8 @@ func accuracyCases(seconds int) []accuracyCase {
 		{"9871.3Hz-phase0", 48000, seconds, []patch.Partial{sine(9871.3, 1, 0)}},
 		{"3000Hz-stride", 48000, seconds, []patch.Partial{sine(3000*(1+1e-6), 1, 0.3)}},
 		{"6000Hz-stride", 48000, seconds, []patch.Partial{sine(6000*(1+1e-6), 1, 0.3)}},
+		{"440Hz-moving-path", 48000, seconds, []patch.Partial{still(sine(440, 1, -2.5))}},
+		{"9871.3Hz-moving-path", 48000, seconds, []patch.Partial{still(sine(9871.3, 0.5, 1))}},
 		{"bank", 48000, seconds, []patch.Partial{
 			sine(55, 0.3, 0), sine(440, -0.2, 1), sine(3520, 0.25, 2), sine(9871.3, 0.1, 3),
 			sine(1000, 0.05, -1), sine(12345, 0.05, 0.5), sine(220, 0.05, 6),
@@ -871,10 +881,9 @@ func benchNote() *patch.Note {
 }
 
 // BenchmarkRender measures the kernel this build runs (synth.Kernel).
-func BenchmarkRender(b *testing.B) { benchmarkRender(b) }
+func BenchmarkRender(b *testing.B) { benchmarkRender(b, benchNote()) }
 
-func benchmarkRender(b *testing.B) {
-	n := benchNote()
+func benchmarkRender(b *testing.B, n *patch.Note) {
 	dst := make([]float64, synth.Frames(n))
 	var r synth.Renderer
 	r.Render(dst, n)
@@ -902,4 +911,14 @@ func BenchmarkNaiveSine(b *testing.B) {
 		}
 	}
 	b.ReportMetric(float64(len(n.Partials)*n.Frames)*float64(b.N)/b.Elapsed().Seconds(), "partial-samples/s")
+}
+
+// BenchmarkRenderVibrato is BenchmarkRender's note with a vibrato on every
+// partial, which takes the moving partials' path.
+func BenchmarkRenderVibrato(b *testing.B) {
+	n := benchNote()
+	for i := range n.Partials {
+		n.Partials[i].Motion = &patch.Motion{Vibrato: patch.Vibrato{Rate: 5.5, Depth: 20, Delay: 0.3, Fade: 0.5}, MaxCents: 20}
+	}
+	benchmarkRender(b, n)
 }
