@@ -43,9 +43,19 @@ func (l ErrorList) Error() string {
 }
 
 // sortByPosition puts the list in file order, keeping the order in which
-// problems at the same place were found.
+// problems at the same place were found; problems in included files stay
+// together, after the first problem reported in them.
 func (l ErrorList) sortByPosition() {
+	rank := map[string]int{}
+	for _, e := range l {
+		if _, ok := rank[e.File]; !ok {
+			rank[e.File] = len(rank)
+		}
+	}
 	slices.SortStableFunc(l, func(a, b *Error) int {
+		if a.File != b.File {
+			return rank[a.File] - rank[b.File]
+		}
 		if a.Line != b.Line {
 			return a.Line - b.Line
 		}

@@ -15,7 +15,10 @@ var groupKeys = []string{"harmonics", "ratio", "ratios", "modes", "spectrum", "c
 // groupKinds are the keys of which a group has exactly one.
 var groupKinds = []string{"harmonics", "ratio", "ratios", "modes", "spectrum", "cluster"}
 
-var envelopeKeys = []string{"attack", "decay", "sustain", "release"}
+var envelopeKeys = []string{"attack", "decay", "sustain", "release", "curve"}
+
+// Envelope curves for decay and release.
+var curves = []string{"exponential", "linear"}
 
 // Spectra a group can take from its Fourier series, by name.
 var spectra = []string{"sawtooth", "square", "triangle"}
@@ -104,7 +107,12 @@ func (d *decoder) groups(n *yaml.Node, path string, defaults EnvelopeSpec) []Gro
 		if d.overBudget() {
 			return groups
 		}
-		groups = append(groups, d.group(d.resolve(item), fmt.Sprintf("%s[%d]", path, i), defaults))
+		item, sub := d.resolve(item), fmt.Sprintf("%s[%d]", path, i)
+		if target := d.includeTarget(item, sub); target != nil {
+			groups = append(groups, d.include(target, joinPath(sub, "include"), defaults)...)
+			continue
+		}
+		groups = append(groups, d.group(item, sub, defaults))
 	}
 	return groups
 }
@@ -349,6 +357,12 @@ func (d *decoder) envelope(n *yaml.Node, path string, defaults EnvelopeSpec) Env
 			env.Sustain, _ = d.value(v, path, true)
 		case "release":
 			env.Release, _ = d.value(v, path, false)
+		case "curve":
+			name, _ := d.text(v, path)
+			if !slices.Contains(curves, name) && name != "" {
+				d.errorf(d.resolve(v), path, "%q is not an envelope curve; expected %s", name, strings.Join(curves, " or "))
+			}
+			env.Linear = name == "linear"
 		}
 	})
 	return env

@@ -42,7 +42,10 @@ type Patch struct {
 	Groups     []Group
 	// Body is a spectral envelope fixed in hertz that every partial passes
 	// through, interpolated in log frequency; nil for none.
-	Body      []BodyPoint
+	Body []BodyPoint
+	// Includes are the files the partials list pulled groups from, in the
+	// order they were read.
+	Includes  []Include
 	OutputDir string // resolved against the patch file's folder
 }
 
@@ -152,6 +155,7 @@ type BodyPoint struct {
 // level from 0 to 1, each a number or an expression.
 type EnvelopeSpec struct {
 	Attack, Decay, Sustain, Release Value
+	Linear                          bool // curve: linear
 }
 
 // Limits on what a patch may ask for; they keep a typing slip from asking
@@ -188,7 +192,8 @@ func Load(path string) (*Patch, error) {
 // Parse parses and validates patch source; file names it in messages and
 // anchors relative output folders.
 func Parse(file string, data []byte) (*Patch, error) {
-	d := &decoder{file: file}
+	p := &Patch{File: file, SHA256: sha256.Sum256(data)}
+	d := &decoder{file: file, chain: []string{filepath.Clean(file)}, includes: &p.Includes}
 	if len(data) > maxPatchBytes {
 		return nil, ErrorList{{File: file, Msg: fmt.Sprintf("the patch is %d bytes; patches are limited to %d", len(data), maxPatchBytes)}}
 	}
@@ -199,7 +204,6 @@ func Parse(file string, data []byte) (*Patch, error) {
 	if doc.Kind == 0 || len(doc.Content) == 0 {
 		return nil, ErrorList{{File: file, Line: 1, Column: 1, Msg: "the patch is empty; it needs at least name and partials"}}
 	}
-	p := &Patch{File: file, SHA256: sha256.Sum256(data)}
 	d.patch(doc.Content[0], p)
 	if d.overBudget() {
 		return nil, ErrorList{{File: file, Line: 1, Column: 1, Msg: fmt.Sprintf("the patch expands to more than %d YAML nodes (aliases nested too deep?)", maxNodeVisits)}}

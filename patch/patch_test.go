@@ -451,6 +451,14 @@ partials:
 		line: 3, column: 37, path: "partials[0].pitch[1][0]", msg: "the points must rise in time: 0.1 s follows 0.2 s",
 	},
 	{
+		name: "unknown envelope curve",
+		src: `name: harbor-glass
+envelope: {curve: cubic}
+partials: [{ratio: 1}]
+`,
+		line: 2, column: 19, path: "envelope.curve", msg: `"cubic" is not an envelope curve; expected exponential or linear`,
+	},
+	{
 		name: "group with harmonics and ratio",
 		src: `name: harbor-glass
 partials:

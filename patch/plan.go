@@ -20,6 +20,7 @@ type Plan struct {
 	Normalize   Normalize
 	Dither      bool // TPDF dither for integer formats
 	OutputDir   string
+	Includes    []Include // files the patch pulled partial groups from
 	Notes       []Note
 }
 
@@ -107,6 +108,9 @@ type LoopRequest struct {
 // Envelope is an ADSR envelope: times in seconds, Sustain a level in 0..1.
 type Envelope struct {
 	Attack, Decay, Sustain, Release float64
+	// Linear makes the decay and release straight lines instead of the
+	// exponential curve.
+	Linear bool
 }
 
 // ExpandOptions narrows a plan.
@@ -142,7 +146,7 @@ func (p *Patch) Expand(opts ExpandOptions) (*Plan, error) {
 	plan := &Plan{
 		Name: p.Name, PatchFile: p.File, PatchSHA256: hex.EncodeToString(p.SHA256[:]),
 		SampleRate: p.SampleRate, BitDepth: p.BitDepth, Channels: p.Channels,
-		Normalize: p.Normalize, Dither: p.Dither, OutputDir: p.OutputDir,
+		Normalize: p.Normalize, Dither: p.Dither, OutputDir: p.OutputDir, Includes: p.Includes,
 	}
 	x := expander{patch: p, reported: map[string]bool{}}
 	rate := float64(p.SampleRate)
@@ -465,6 +469,7 @@ func (x *expander) shape(part *Partial, g *Group, src source, vars []float64, n 
 	ok = x.eval(&part.Envelope.Decay, e.Decay, vars, n, 0, MaxSeconds, " s") && ok
 	ok = x.eval(&part.Envelope.Sustain, e.Sustain, vars, n, 0, 1, "") && ok
 	ok = x.eval(&part.Envelope.Release, e.Release, vars, n, 0, MaxSeconds, " s") && ok
+	part.Envelope.Linear = e.Linear
 	return ok
 }
 

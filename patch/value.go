@@ -35,6 +35,7 @@ var exprColumn = regexp.MustCompile(`column \d+`)
 type Value struct {
 	prog     *expr.Program
 	decibels bool
+	file     string // where it was written; a patch or a file it includes
 	line     int
 	column   int
 	path     string
@@ -76,7 +77,7 @@ func (d *decoder) value(n *yaml.Node, path string, decibelsAllowed bool) (Value,
 			return Value{}, false
 		}
 		v := constValue(x)
-		v.line, v.column, v.path = n.Line, n.Column, path
+		v.file, v.line, v.column, v.path = d.file, n.Line, n.Column, path
 		return v, true
 	}
 	if n.Kind != yaml.ScalarNode || n.ShortTag() != "!!str" {
@@ -84,7 +85,7 @@ func (d *decoder) value(n *yaml.Node, path string, decibelsAllowed bool) (Value,
 		return Value{}, false
 	}
 	src := n.Value
-	v := Value{line: n.Line, column: n.Column, path: path}
+	v := Value{file: d.file, line: n.Line, column: n.Column, path: path}
 	if n.Style&(yaml.DoubleQuotedStyle|yaml.SingleQuotedStyle) != 0 {
 		v.column++ // the expression starts after the opening quote
 	}
@@ -119,7 +120,11 @@ func (d *decoder) value(n *yaml.Node, path string, decibelsAllowed bool) (Value,
 	return v, true
 }
 
-// at returns an error located where the value was written.
+// at returns an error located where the value was written, in file
+// unless the value came from a file the patch includes.
 func (v Value) at(file, format string, args ...any) *Error {
+	if v.file != "" {
+		file = v.file
+	}
 	return &Error{File: file, Line: v.line, Column: v.column, Path: v.path, Msg: fmt.Sprintf(format, args...)}
 }

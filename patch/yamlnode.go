@@ -23,6 +23,10 @@ type decoder struct {
 	file   string
 	errs   ErrorList
 	visits int
+	// chain is the files being read, the patch first, to catch an include
+	// cycle; includes collects every file included, shared by all.
+	chain    []string
+	includes *[]Include
 }
 
 func (d *decoder) errorf(n *yaml.Node, path, format string, args ...any) {

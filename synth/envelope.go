@@ -31,6 +31,7 @@ type envelope struct {
 	attack, decayEnd, noteOff, releaseEnd float64 // sample positions
 	sustain                               float64
 	offLevel                              float64 // level reached at note-off
+	linear                                bool    // straight decay and release
 }
 
 // newEnvelope scales e's times by sampleRate; noteOff is already in samples.
@@ -39,6 +40,7 @@ func newEnvelope(e patch.Envelope, sampleRate, noteOff float64) envelope {
 		attack:  e.Attack * sampleRate,
 		sustain: e.Sustain,
 		noteOff: noteOff,
+		linear:  e.Linear,
 	}
 	env.decayEnd = env.attack + e.Decay*sampleRate
 	env.releaseEnd = env.noteOff + e.Release*sampleRate
@@ -80,10 +82,18 @@ func (e *envelope) levelIn(seg int, t float64) float64 {
 	case segAttack:
 		return t / e.attack
 	case segDecay:
+		u := (t - e.attack) / (e.decayEnd - e.attack)
+		if e.linear {
+			return e.sustain + (1-e.sustain)*(1-u)
+		}
 		return e.fromExp(seg, math.Exp(-curveDepth*(t-e.attack)/(e.decayEnd-e.attack)))
 	case segSustain:
 		return e.sustain
 	case segRelease:
+		u := (t - e.noteOff) / (e.releaseEnd - e.noteOff)
+		if e.linear {
+			return e.offLevel * (1 - u)
+		}
 		return e.fromExp(seg, math.Exp(-curveDepth*(t-e.noteOff)/(e.releaseEnd-e.noteOff)))
 	}
 	return 0

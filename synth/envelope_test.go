@@ -26,6 +26,8 @@ func TestAt(t *testing.T) {
 	s := e.Sustain
 	early := patch.Envelope{Attack: 0.1, Decay: 0.2, Sustain: 0.25, Release: 0.4}
 	const earlyOff = 0.05 // released half way up the attack
+	straight := e
+	straight.Linear = true
 	cases := []struct {
 		name    string
 		env     patch.Envelope
@@ -56,6 +58,8 @@ func TestAt(t *testing.T) {
 		{"early-off-release-end", early, earlyOff + 0.4, earlyOff, 0, "release reaches 0"},
 		{"decay-off", e, 0.2, 0.2, s + (1-s)*curve(-1.5), "released mid-decay: the level reached"},
 		{"decay-off-release-mid", e, 0.4, 0.2, (s + (1-s)*curve(-1.5)) * curve(-1.5), "release of the level reached mid-decay"},
+		{"linear-decay-mid", straight, 0.2, off, s + (1-s)*0.5, "curve: linear, half way down the decay"},
+		{"linear-release-quarter", straight, off + 0.1, off, s * 0.75, "curve: linear, a quarter into the release"},
 	}
 	for _, c := range cases {
 		if got := synth.At(c.env, c.t, c.off); math.Abs(got-c.want) > 1e-12 {

@@ -161,12 +161,12 @@ func (o *oscillator) laneParams(job *laneJob, b0 int, t *laneTable) {
 	lv[0] = o.amp * o.levelAt(seg, b0)
 	end := b0 + BlockFrames
 	var exp, back float64
-	switch seg {
-	case segDecay:
+	switch {
+	case seg == segDecay && !e.linear:
 		exp, back = math.Exp(-curveDepth*(float64(end)-e.attack)/(e.decayEnd-e.attack)), t.decayBack
-	case segRelease:
+	case seg == segRelease && !e.linear:
 		exp, back = math.Exp(-curveDepth*(float64(end)-e.noteOff)/(e.releaseEnd-e.noteOff)), t.releaseBack
-	default:
+	default: // attack, sustain, straight segments: each point as it is
 		for m := 1; m <= spansPerBlock; m++ {
 			lv[m] = o.amp * e.levelIn(seg, float64(b0+m*ControlFrames))
 		}

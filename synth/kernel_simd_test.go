@@ -18,7 +18,7 @@ const vectorTolerance = 1e-13
 
 // TestVectorMatchesPlain renders notes with the vector kernel and with the
 // plain kernel in the same build and compares every sample. The notes
-// cover every envelope segment, corners inside blocks (which the vector
+// cover every envelope segment and both curves, corners inside blocks (which the vector
 // path leaves to the scalar one), an odd partial count, a last block
 // shorter than BlockFrames and a partial next to the stride-8 worst case.
 func TestVectorMatchesPlain(t *testing.T) {
@@ -48,6 +48,7 @@ func TestVectorMatchesPlain(t *testing.T) {
 				e := env
 				e.Attack *= float64(h%5 + 1)
 				e.Decay *= float64(h%3 + 1)
+				e.Linear = h%4 == 0
 				n.Partials = append(n.Partials, patch.Partial{Hz: hz, Amplitude: 1 / float64(h), Phase: 0.37 * float64(h), Envelope: e})
 				sum += 1 / float64(h)
 			}

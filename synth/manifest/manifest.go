@@ -22,9 +22,17 @@ type Manifest struct {
 	Files     []File `json:"files"`
 }
 
-// Patch identifies the patch a set was rendered from.
+// Patch identifies the patch a set was rendered from, and the files it
+// included.
 type Patch struct {
-	Name   string `json:"name"`
+	Name     string    `json:"name"`
+	SHA256   string    `json:"sha256"`
+	Includes []Include `json:"includes,omitempty"`
+}
+
+// Include is a file the patch pulled partial groups from.
+type Include struct {
+	Path   string `json:"path"` // as the patch named it, joined to the including file's folder
 	SHA256 string `json:"sha256"`
 }
 

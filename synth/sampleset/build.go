@@ -103,7 +103,7 @@ func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error)
 	b.staging = staging
 	b.manifest = &manifest.Manifest{
 		Sinter:    opts.Version,
-		Patch:     manifest.Patch{Name: plan.Name, SHA256: plan.PatchSHA256},
+		Patch:     manifest.Patch{Name: plan.Name, SHA256: plan.PatchSHA256, Includes: includes(plan)},
 		Levelling: plan.Normalize.String(),
 		Mapping:   plan.Name + ".sfz",
 		Files:     make([]manifest.File, len(notes)),
@@ -153,6 +153,16 @@ func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error)
 	}
 	res.Manifest = m
 	return res, nil
+}
+
+// includes lists the plan's included files for the manifest, with
+// '/'-separated paths.
+func includes(plan *patch.Plan) []manifest.Include {
+	var list []manifest.Include
+	for _, in := range plan.Includes {
+		list = append(list, manifest.Include{Path: filepath.ToSlash(in.Path), SHA256: in.SHA256})
+	}
+	return list
 }
 
 // build is the state of one Build, indexed by note. Workers write only

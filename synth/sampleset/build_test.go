@@ -563,3 +563,47 @@ func TestBuildRefusesForeignFolder(t *testing.T) {
 	}
 	noStaging(t, parent)
 }
+
+// TestManifestListsIncludes: the manifest names every file the patch
+// included, with its SHA-256 (FIPS 180-4, crypto/sha256).
+func TestManifestListsIncludes(t *testing.T) {
+	dir := t.TempDir()
+	shared := "partials:\n  - {harmonics: 3, amplitude: \"0.3/n\"}\n"
+	if err := os.WriteFile(filepath.Join(dir, "strings.yaml"), []byte(shared), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	main := filepath.Join(dir, "p.yaml")
+	if err := os.WriteFile(main, []byte("name: inc\nsample_rate: 8000\nhold: 0.1\ntail: 0.05\npartials:\n  - include: strings.yaml\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	p, err := patch.Load(main)
+	if err != nil {
+		t.Fatal(err)
+	}
+	plan, err := p.Expand(patch.ExpandOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	plan.OutputDir = filepath.Join(dir, "set")
+	build(t, plan, 1)
+	data, err := os.ReadFile(filepath.Join(dir, "set", "manifest.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var m struct {
+		Patch struct {
+			Includes []struct {
+				Path   string `json:"path"`
+				SHA256 string `json:"sha256"`
+			} `json:"includes"`
+		} `json:"patch"`
+	}
+	if err := json.Unmarshal(data, &m); err != nil {
+		t.Fatal(err)
+	}
+	sum := sha256.Sum256([]byte(shared))
+	inc := m.Patch.Includes
+	if len(inc) != 1 || inc[0].Path != filepath.ToSlash(filepath.Join(dir, "strings.yaml")) || inc[0].SHA256 != hex.EncodeToString(sum[:]) {
+		t.Errorf("manifest includes %+v; want strings.yaml with sha256 %x", inc, sum)
+	}
+}
