@@ -15,7 +15,7 @@ var groupKeys = []string{"harmonics", "ratio", "ratios", "modes", "spectrum", "c
 // groupKinds are the keys of which a group has exactly one.
 var groupKinds = []string{"harmonics", "ratio", "ratios", "modes", "spectrum", "cluster"}
 
-var envelopeKeys = []string{"attack", "decay", "sustain", "release", "curve"}
+var envelopeKeys = []string{"attack", "decay", "sustain", "release", "curve", "points", "stretch"}
 
 // Envelope curves for decay and release.
 var curves = []string{"exponential", "linear"}
@@ -90,7 +90,7 @@ type Cluster struct {
 // defaultEnvelope is a short click-free attack into full sustain with a
 // tenth of a second release.
 func defaultEnvelope() EnvelopeSpec {
-	return EnvelopeSpec{Attack: constValue(0.005), Decay: constValue(0), Sustain: constValue(1), Release: constValue(0.1)}
+	return EnvelopeSpec{Attack: constValue(0.005), Decay: constValue(0), Sustain: constValue(1), Release: constValue(0.1), Stretch: constValue(1)}
 }
 
 func (d *decoder) groups(n *yaml.Node, path string, defaults EnvelopeSpec) []Group {
@@ -363,8 +363,26 @@ func (d *decoder) envelope(n *yaml.Node, path string, defaults EnvelopeSpec) Env
 				d.errorf(d.resolve(v), path, "%q is not an envelope curve; expected %s", name, strings.Join(curves, " or "))
 			}
 			env.Linear = name == "linear"
+		case "points":
+			env.Points = nil
+			d.points(v, path, axis{"seconds", "time", " s", 0, MaxSeconds, 0.01}, axis{"level", "level", "", 0, 1, 1}, func(t, l float64) {
+				env.Points = append(env.Points, EnvelopePoint{Time: t, Level: l})
+			})
+			if len(env.Points) > MaxEnvelopePoints {
+				d.errorf(d.resolve(v), path, "%d points; an envelope may have at most %d", len(env.Points), MaxEnvelopePoints)
+				env.Points = env.Points[:MaxEnvelopePoints]
+			}
+		case "stretch":
+			env.Stretch, _ = d.value(v, path, false)
 		}
 	})
+	if r := d.resolve(n); r.Kind == yaml.MappingNode && hasKey(r, "points") {
+		for _, key := range []string{"attack", "decay", "sustain"} {
+			if hasKey(r, key) {
+				d.errorf(r, joinPath(path, key), "an envelope with points has no %s; the points give the whole shape up to note-off", key)
+			}
+		}
+	}
 	return env
 }
 

@@ -156,21 +156,27 @@ type BodyPoint struct {
 type EnvelopeSpec struct {
 	Attack, Decay, Sustain, Release Value
 	Linear                          bool // curve: linear
+	// Points, when set, replace attack, decay and sustain; Stretch scales
+	// their times.
+	Points  []EnvelopePoint
+	Stretch Value
 }
 
 // Limits on what a patch may ask for; they keep a typing slip from asking
 // for hours of audio or a million partials.
 const (
-	MinSampleRate  = 8000
-	MaxSampleRate  = 384000
-	MaxSeconds     = 600 // hold + tail of one file
-	MaxSeries      = 4096
-	MaxRoundRobin  = 100
-	maxPatchBytes  = 4 << 20
-	defaultHold    = 2.0
-	defaultTail    = 1.0
-	defaultBandLim = 0.45
-	defaultFade    = 0.1
+	MinSampleRate = 8000
+	MaxSampleRate = 384000
+	MaxSeconds    = 600 // hold + tail of one file
+	MaxSeries     = 4096
+	MaxRoundRobin = 100
+	// MaxEnvelopePoints bounds a breakpoint envelope.
+	MaxEnvelopePoints = 16
+	maxPatchBytes     = 4 << 20
+	defaultHold       = 2.0
+	defaultTail       = 1.0
+	defaultBandLim    = 0.45
+	defaultFade       = 0.1
 )
 
 var namePattern = regexp.MustCompile(`^[a-z0-9][a-z0-9._-]*$`)

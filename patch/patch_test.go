@@ -7,6 +7,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"reflect"
 	"slices"
 	"strings"
 	"testing"
@@ -457,6 +458,22 @@ envelope: {curve: cubic}
 partials: [{ratio: 1}]
 `,
 		line: 2, column: 19, path: "envelope.curve", msg: `"cubic" is not an envelope curve; expected exponential or linear`,
+	},
+	{
+		name: "points with an attack",
+		src: `name: harbor-glass
+envelope: {points: [[0, 0], [0.1, 1]], attack: 0.2}
+partials: [{ratio: 1}]
+`,
+		line: 2, column: 11, path: "envelope.attack", msg: "an envelope with points has no attack",
+	},
+	{
+		name: "point level above 1",
+		src: `name: harbor-glass
+envelope: {points: [[0, 0], [0.1, 1.5]]}
+partials: [{ratio: 1}]
+`,
+		line: 2, column: 35, path: "envelope.points[1][1]", msg: "1.5 is out of range: expected 0..1",
 	},
 	{
 		name: "group with harmonics and ratio",
@@ -1132,7 +1149,7 @@ partials:
 	envs := envelopesOf(t, p)
 	for i, w := range wants {
 		g := p.Groups[i]
-		if g.Kind != patch.KindRatio || g.Ratio != w.ratio || g.Amplitude.String() != w.amplitude || g.Phase.String() != w.phase || envs[i] != w.env {
+		if g.Kind != patch.KindRatio || g.Ratio != w.ratio || g.Amplitude.String() != w.amplitude || g.Phase.String() != w.phase || !reflect.DeepEqual(envs[i], w.env) {
 			t.Errorf("group %d: ratio %v, amplitude %v, phase %v, envelope %+v; want %+v", i, g.Ratio, g.Amplitude, g.Phase, envs[i], w)
 		}
 	}
@@ -1146,10 +1163,10 @@ partials:
     envelope: {release: 2}
 `)
 	envs = envelopesOf(t, p)
-	if want := (patch.Envelope{Attack: 0.05, Decay: 0, Sustain: 1, Release: 0.8}); envs[0] != want {
+	if want := (patch.Envelope{Attack: 0.05, Decay: 0, Sustain: 1, Release: 0.8}); !reflect.DeepEqual(envs[0], want) {
 		t.Errorf("group 0 envelope %+v; want %+v", envs[0], want)
 	}
-	if want := (patch.Envelope{Attack: 0.05, Decay: 0, Sustain: 1, Release: 2}); envs[1] != want {
+	if want := (patch.Envelope{Attack: 0.05, Decay: 0, Sustain: 1, Release: 2}); !reflect.DeepEqual(envs[1], want) {
 		t.Errorf("group 1 envelope %+v; want %+v", envs[1], want)
 	}
 }

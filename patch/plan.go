@@ -108,9 +108,28 @@ type LoopRequest struct {
 // Envelope is an ADSR envelope: times in seconds, Sustain a level in 0..1.
 type Envelope struct {
 	Attack, Decay, Sustain, Release float64
-	// Linear makes the decay and release straight lines instead of the
-	// exponential curve.
+	// Linear makes the decay and release (and the segments between
+	// Points) straight lines instead of the exponential curve.
 	Linear bool
+	// Points, when set, replace attack, decay and sustain: the level runs
+	// through them (their times multiplied by Stretch), holds the last one
+	// until note-off and then releases. Sustain is then the last level.
+	Points  []EnvelopePoint
+	Stretch float64
+}
+
+// EnvelopePoint is one breakpoint of an amplitude envelope.
+type EnvelopePoint struct {
+	Time  float64 // seconds from note-on, before Stretch
+	Level float64 // 0..1
+}
+
+// Settled is when the envelope reaches the level it holds until note-off.
+func (e Envelope) Settled() float64 {
+	if len(e.Points) > 0 {
+		return e.Points[len(e.Points)-1].Time * e.Stretch
+	}
+	return e.Attack + e.Decay
 }
 
 // ExpandOptions narrows a plan.
@@ -465,9 +484,15 @@ func (x *expander) shape(part *Partial, g *Group, src source, vars []float64, n 
 		part.Phase = phaseDeg * math.Pi / 180
 	}
 	e := &g.Envelope
-	ok = x.eval(&part.Envelope.Attack, e.Attack, vars, n, 0, MaxSeconds, " s") && ok
-	ok = x.eval(&part.Envelope.Decay, e.Decay, vars, n, 0, MaxSeconds, " s") && ok
-	ok = x.eval(&part.Envelope.Sustain, e.Sustain, vars, n, 0, 1, "") && ok
+	if len(e.Points) > 0 {
+		last := e.Points[len(e.Points)-1]
+		ok = x.eval(&part.Envelope.Stretch, e.Stretch, vars, n, 0, MaxSeconds/max(last.Time, 1e-9), "") && ok
+		part.Envelope.Points, part.Envelope.Sustain = e.Points, last.Level
+	} else {
+		ok = x.eval(&part.Envelope.Attack, e.Attack, vars, n, 0, MaxSeconds, " s") && ok
+		ok = x.eval(&part.Envelope.Decay, e.Decay, vars, n, 0, MaxSeconds, " s") && ok
+		ok = x.eval(&part.Envelope.Sustain, e.Sustain, vars, n, 0, 1, "") && ok
+	}
 	ok = x.eval(&part.Envelope.Release, e.Release, vars, n, 0, MaxSeconds, " s") && ok
 	part.Envelope.Linear = e.Linear
 	return ok
@@ -565,7 +590,7 @@ func (x *expander) loop(n *Note) {
 	rate := float64(n.SampleRate)
 	settled := 0.0
 	for _, p := range n.Partials {
-		settled = max(settled, p.Envelope.Attack+p.Envelope.Decay)
+		settled = max(settled, p.Envelope.Settled())
 	}
 	req := LoopRequest{Mode: spec.Mode, Crossfade: max(1, int(math.Round(spec.Crossfade*rate))), Exact: spec.Exact}
 	settledFrame := int(math.Ceil(settled * rate))

@@ -437,7 +437,7 @@ func TestExpandEnvelopeDefaults(t *testing.T) {
 	// The documented default envelope (groups.go): 5 ms attack, no decay,
 	// full sustain, 0.1 s release.
 	n := partialsOf(t, "name: x\npartials: [{ratio: 1}]\n", 60, 100)
-	if want := (patch.Envelope{Attack: 0.005, Decay: 0, Sustain: 1, Release: 0.1}); n.Partials[0].Envelope != want {
+	if want := (patch.Envelope{Attack: 0.005, Decay: 0, Sustain: 1, Release: 0.1}); !reflect.DeepEqual(n.Partials[0].Envelope, want) {
 		t.Errorf("default envelope %+v; want %+v", n.Partials[0].Envelope, want)
 	}
 }
@@ -566,5 +566,25 @@ func TestExpandKeysOption(t *testing.T) {
 	list := expandErrors(t, src, patch.ExpandOptions{Keys: []int{60, 61}})
 	if e := list[0]; len(list) != 1 || e.Line != 0 || !strings.Contains(e.Msg, "key C#4 (61) is not one of the patch's keys [C3 C4 C5]") {
 		t.Errorf("Keys [60 61]: got %v; want one error naming C#4 and the patch's keys", list)
+	}
+}
+
+// TestExpandEnvelopePoints: a breakpoint envelope reaches the plan with
+// its stretch evaluated per partial; it settles at its last point, whose
+// level is the sustain.
+func TestExpandEnvelopePoints(t *testing.T) {
+	n := partialsOf(t, `name: x
+partials:
+  - harmonics: 2
+    envelope: {points: [[0, 0], [0.05, 1], [0.5, 0.3]], stretch: "1/n", release: 0.4, curve: linear}
+`, 60, 100)
+	for i, p := range n.Partials {
+		e := p.Envelope
+		if len(e.Points) != 3 || e.Stretch != 1/float64(i+1) || e.Sustain != 0.3 || e.Release != 0.4 || !e.Linear {
+			t.Errorf("partial %d envelope %+v", i, e)
+		}
+		if got, want := e.Settled(), 0.5/float64(i+1); got != want {
+			t.Errorf("partial %d settles at %v s; want %v", i, got, want)
+		}
 	}
 }

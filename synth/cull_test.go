@@ -53,6 +53,12 @@ func TestWorkMatchesRender(t *testing.T) {
 			})
 		}
 	}
+	// A partial whose breakpoint envelope dies away and swells again late:
+	// its audible blocks are not a prefix.
+	swell := patch.Note{SampleRate: rate, Channels: 1, Frames: 3 * rate, NoteOff: 3 * rate}
+	swell.Partials = []patch.Partial{{Hz: 330, Amplitude: 0.5, Envelope: patch.Envelope{Stretch: 1, Release: 0.1,
+		Points: []patch.EnvelopePoint{{Time: 0, Level: 1}, {Time: 0.2, Level: 0}, {Time: 2, Level: 0}, {Time: 2.5, Level: 1}}}}}
+	notes = append(notes, swell)
 	var r synth.Renderer
 	for i := range notes {
 		n := &notes[i]

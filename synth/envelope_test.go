@@ -28,6 +28,13 @@ func TestAt(t *testing.T) {
 	const earlyOff = 0.05 // released half way up the attack
 	straight := e
 	straight.Linear = true
+	// A breakpoint envelope that rises, falls and rises again.
+	points := patch.Envelope{Points: []patch.EnvelopePoint{{Time: 0.006, Level: 0.2}, {Time: 0.01, Level: 1}, {Time: 0.1, Level: 0.2}, {Time: 0.3, Level: 0.6}},
+		Stretch: 1, Release: 0.2, Linear: true}
+	curvedPoints := points
+	curvedPoints.Linear = false
+	stretched := points
+	stretched.Stretch = 2
 	cases := []struct {
 		name    string
 		env     patch.Envelope
@@ -59,6 +66,13 @@ func TestAt(t *testing.T) {
 		{"decay-off", e, 0.2, 0.2, s + (1-s)*curve(-1.5), "released mid-decay: the level reached"},
 		{"decay-off-release-mid", e, 0.4, 0.2, (s + (1-s)*curve(-1.5)) * curve(-1.5), "release of the level reached mid-decay"},
 		{"linear-decay-mid", straight, 0.2, off, s + (1-s)*0.5, "curve: linear, half way down the decay"},
+		{"points-before-first", points, 0.005, off, 0.2, "the first point's level before it"},
+		{"points-fall-mid", points, 0.055, off, 0.6, "straight from 1 at 0.01 s to 0.2 at 0.1 s"},
+		{"points-rise-again", points, 0.2, off, 0.4, "straight from 0.2 at 0.1 s up to 0.6 at 0.3 s"},
+		{"points-hold", points, 0.7, off, 0.6, "the last point holds until note-off"},
+		{"points-release", points, off + 0.1, off, 0.3, "straight release from 0.6 over 0.2 s"},
+		{"points-curved-mid", curvedPoints, 0.055, off, 0.2 + 0.8*curve(-1.5), "curved from 1 to 0.2: 0.2 + 0.8·(10^−1.5 − 10^−3)/(1 − 10^−3)"},
+		{"points-stretched", stretched, 0.11, off, 0.6, "times doubled: half way from 1 at 0.02 s to 0.2 at 0.2 s"},
 		{"linear-release-quarter", straight, off + 0.1, off, s * 0.75, "curve: linear, a quarter into the release"},
 	}
 	for _, c := range cases {

@@ -40,11 +40,8 @@ func Kernel() string {
 // cos jω and sin jω rotate the anchor phase θ into the eight lanes' values
 // sin(θ + jω); stepCos and stepSin give their first differences
 // sin(θ + jω) − sin(θ + (j−8)ω); negK is −4·sin² 4ω broadcast.
-// decayBack and releaseBack step the exponential of those segments' curve
-// back by ControlFrames.
 type laneTable struct {
 	cos, sin, stepCos, stepSin, negK [vectorLanes]float64
-	decayBack, releaseBack           float64
 }
 
 // laneJob is what the scalar pass hands the vector pass for one partial
@@ -107,9 +104,6 @@ func (l *laneBank) prepare(osc []oscillator) {
 			t.stepCos[j], t.stepSin[j] = -2*sin4*s, 2*sin4*c
 			t.negK[j] = -4 * sin4 * sin4
 		}
-		e := &osc[i].env
-		t.decayBack = math.Exp(curveDepth * ControlFrames / (e.decayEnd - e.attack))
-		t.releaseBack = math.Exp(curveDepth * ControlFrames / (e.releaseEnd - e.noteOff))
 	}
 }
 
@@ -133,7 +127,7 @@ func (r *Renderer) renderBlock(out []float64, b0, b1 int) {
 		job := &l.jobs[jobs]
 		jobs++
 		job.table = i
-		o.laneParams(job, b0, &l.tables[i])
+		o.laneParams(job, b0)
 	}
 	block := (*[BlockFrames]float64)(out[b0:b1])
 	for j := 0; j+1 < jobs; j += 2 {
@@ -149,36 +143,32 @@ func (r *Renderer) renderBlock(out []float64, b0, b1 int) {
 }
 
 // laneParams fills the scalar pass's part of job for the block at b0,
-// which lies in one envelope segment. In a decay or release it takes one
+// which lies in one envelope segment. On a curved segment it takes one
 // exponential, at the block's end, and steps it back to the inner control
 // points, one multiplication each, which keeps every level within a few
 // units in the last place of the exact curve.
-func (o *oscillator) laneParams(job *laneJob, b0 int, t *laneTable) {
+func (o *oscillator) laneParams(job *laneJob, b0 int) {
 	job.anchor[0], job.anchor[1] = o.phaseAt(b0)
 	e := &o.env
 	seg := e.segment(float64(b0))
 	lv := &job.levels
 	lv[0] = o.amp * o.levelAt(seg, b0)
 	end := b0 + BlockFrames
-	var exp, back float64
-	switch {
-	case seg == segDecay && !e.linear:
-		exp, back = math.Exp(-curveDepth*(float64(end)-e.attack)/(e.decayEnd-e.attack)), t.decayBack
-	case seg == segRelease && !e.linear:
-		exp, back = math.Exp(-curveDepth*(float64(end)-e.noteOff)/(e.releaseEnd-e.noteOff)), t.releaseBack
-	default: // attack, sustain, straight segments: each point as it is
+	if seg >= e.done() || !e.segs[seg].curved {
 		for m := 1; m <= spansPerBlock; m++ {
 			lv[m] = o.amp * e.levelIn(seg, float64(b0+m*ControlFrames))
 		}
 		o.endPos, o.endSeg, o.endLevel = end, seg, e.levelIn(seg, float64(end))
 		return
 	}
+	s := &e.segs[seg]
+	exp := math.Exp(-curveDepth * (float64(end) - s.start) / (s.end - s.start))
 	// The end level, which the next block starts from, is levelIn's to
 	// the bit.
-	o.endPos, o.endSeg, o.endLevel = end, seg, e.fromExp(seg, exp)
+	o.endPos, o.endSeg, o.endLevel = end, seg, s.fromExp(exp)
 	for m := spansPerBlock; m >= 1; m-- {
-		lv[m] = o.amp * e.fromExp(seg, exp)
-		exp *= back
+		lv[m] = o.amp * s.fromExp(exp)
+		exp *= s.back
 	}
 }
 

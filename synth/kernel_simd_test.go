@@ -49,6 +49,10 @@ func TestVectorMatchesPlain(t *testing.T) {
 				e.Attack *= float64(h%5 + 1)
 				e.Decay *= float64(h%3 + 1)
 				e.Linear = h%4 == 0
+				if h%5 == 2 {
+					e.Points = []patch.EnvelopePoint{{Time: 0.01, Level: 1}, {Time: 0.4, Level: 0.2}, {Time: 0.9, Level: 0.7}}
+					e.Stretch = 1
+				}
 				n.Partials = append(n.Partials, patch.Partial{Hz: hz, Amplitude: 1 / float64(h), Phase: 0.37 * float64(h), Envelope: e})
 				sum += 1 / float64(h)
 			}

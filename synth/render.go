@@ -85,6 +85,8 @@ type Renderer struct {
 	mono []float64
 	osc  []oscillator
 	live []int
+	// segments holds the envelopes' segments of every oscillator.
+	segments []segment
 	// lanes holds what the vector kernels need, in builds that have them.
 	lanes laneBank
 	// Scratch for RenderLooped: a retuned copy of the note, and the
@@ -204,7 +206,17 @@ func stereoPasses(scratch []patch.Partial, n *patch.Note) ([3]stereoPass, []patc
 func (r *Renderer) renderMono(out []float64, n *patch.Note, first int) Stats {
 	rate := float64(n.SampleRate)
 	r.osc = r.osc[:0]
+	need := 0
 	for _, p := range n.Partials {
+		need += segmentCount(p.Envelope)
+	}
+	if cap(r.segments) < need {
+		r.segments = make([]segment, 0, need)
+	}
+	store := r.segments[:0]
+	for _, p := range n.Partials {
+		var env envelope
+		env, store = newEnvelope(p.Envelope, rate, float64(n.NoteOff), store)
 		inc := phaseIncrement(p.Hz, n.SampleRate)
 		sinHalf := math.Sin(float64(inc) * phaseUnit / 2)
 		r.osc = append(r.osc, oscillator{
@@ -212,7 +224,7 @@ func (r *Renderer) renderMono(out []float64, n *patch.Note, first int) Stats {
 			inc:    inc, k: 4 * sinHalf * sinHalf, amp: p.Amplitude,
 			sinW: math.Sin(float64(inc) * phaseUnit), versW: 2 * sinHalf * sinHalf,
 			anchorPos: math.MinInt,
-			env:       newEnvelope(p.Envelope, rate, float64(n.NoteOff)),
+			env:       env,
 			endPos:    -1,
 		})
 	}
@@ -366,16 +378,16 @@ func phaseFixed(radians float64) uint64 {
 const SilenceLevel = 1e-7
 
 // audible reports whether the partial can reach SilenceLevel in the block
-// starting at b0. After the attack every envelope segment only falls or
-// holds (decay towards sustain, sustain, release towards zero, note-off
-// from wherever the level is), so its level at b0 bounds the whole block.
+// starting at b0: its level at b0 or, where a segment rises within the
+// block, at the end of that rise.
 func (o *oscillator) audible(b0 int) bool {
-	t := float64(b0)
-	seg := o.env.segment(t)
-	if seg == segAttack {
+	a := math.Abs(o.amp)
+	seg := o.env.segment(float64(b0))
+	level := o.levelAt(seg, b0)
+	if a*level >= SilenceLevel {
 		return true
 	}
-	return math.Abs(o.amp)*o.levelAt(seg, b0) >= SilenceLevel
+	return a*o.env.peakIn(float64(b0), float64(b0+BlockFrames), level) >= SilenceLevel
 }
 
 // levelAt is the envelope at pos by segment seg's formula, taken from the

@@ -8,10 +8,10 @@ import (
 )
 
 // Work returns the oscillator work Render does for n, without rendering:
-// for each partial, the blocks from the start up to the last one in which
-// it can reach SilenceLevel. That span is a prefix, because after its
-// attack an envelope never rises, so a binary search over the blocks
-// finds it in a dozen envelope evaluations. RenderLooped adds the
+// for each partial, the blocks in which it can reach SilenceLevel. For an
+// envelope that never rises again once it has fallen those are a prefix,
+// which a binary search over the blocks finds in a dozen envelope
+// evaluations; other envelopes are checked block by block. RenderLooped adds the
 // continuation after a crossfade loop, which Work leaves out.
 func Work(n *patch.Note) Stats {
 	if n.Channels == 1 {
@@ -32,8 +32,20 @@ func Work(n *patch.Note) Stats {
 func workOf(partials []patch.Partial, n *patch.Note) Stats {
 	stats := Stats{Nominal: int64(len(partials)) * int64(n.Frames)}
 	blocks := (n.Frames + BlockFrames - 1) / BlockFrames
+	var store []segment
 	for _, p := range partials {
-		o := oscillator{amp: p.Amplitude, env: newEnvelope(p.Envelope, float64(n.SampleRate), float64(n.NoteOff)), endPos: -1}
+		var env envelope
+		env, store = newEnvelope(p.Envelope, float64(n.SampleRate), float64(n.NoteOff), store[:0])
+		o := oscillator{amp: p.Amplitude, env: env, endPos: -1}
+		if o.env.risesLate {
+			// Audible blocks need not be a prefix: count them one by one.
+			for b := range blocks {
+				if o.audible(b * BlockFrames) {
+					stats.PartialSamples += int64(min(n.Frames, (b+1)*BlockFrames) - b*BlockFrames)
+				}
+			}
+			continue
+		}
 		audible := sort.Search(blocks, func(b int) bool { return !o.audible(b * BlockFrames) })
 		stats.PartialSamples += int64(min(n.Frames, audible*BlockFrames))
 	}
