@@ -92,6 +92,19 @@ func TestModeTables(t *testing.T) {
 			t.Errorf("drumhead mode %d (ratio %v): J_%d = %.2g, want 0", i+1, p.Hz/440, orders[i], j)
 		}
 	}
+	// The handbook's tables, to the figures they print (from memory:
+	// Fletcher & Rossing, Table 2.2 for the free bar, Table 3.2 for the
+	// ideal membrane).
+	for i, want := range []float64{1, 2.76, 5.40, 8.93, 13.34, 18.64} {
+		if got := bar.Partials[i].Hz / 440; math.Abs(got-want) > 0.006 {
+			t.Errorf("bar mode %d: ratio %.4f; the handbook prints %.2f", i+1, got, want)
+		}
+	}
+	for i, want := range []float64{1, 1.59, 2.14, 2.30, 2.65, 2.92, 3.16, 3.50, 3.60, 3.65} {
+		if got := drum.Partials[i].Hz / 440; math.Abs(got-want) > 0.006 {
+			t.Errorf("drumhead mode %d: ratio %.4f; the handbook prints %.2f", i+1, got, want)
+		}
+	}
 	few := onlyNote(t, "name: t\nkeys: [A4]\npartials:\n  - {modes: drumhead, count: 3}\n")
 	if len(few.Partials) != 3 {
 		t.Errorf("count 3 kept %d modes", len(few.Partials))
