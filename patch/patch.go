@@ -181,6 +181,24 @@ const (
 
 var namePattern = regexp.MustCompile(`^[a-z0-9][a-z0-9._-]*$`)
 
+// deviceName reports whether name, before any extension, is one Windows
+// reserves for devices (CON, PRN, AUX, NUL, COM1–9, LPT1–9; common
+// practice), which no file there may be called.
+func deviceName(name string) bool {
+	base, _, _ := strings.Cut(name, ".")
+	switch base {
+	case "con", "prn", "aux", "nul":
+		return true
+	}
+	return len(base) == 4 && (strings.HasPrefix(base, "com") || strings.HasPrefix(base, "lpt")) && base[3] >= '1' && base[3] <= '9'
+}
+
+// localPath reports whether dir stays inside the folder it is relative
+// to: not absolute, no '..' step, not empty.
+func localPath(dir string) bool {
+	return dir != "" && filepath.IsLocal(dir) && !strings.HasPrefix(dir, "/") && !strings.Contains(dir, "\\")
+}
+
 var topKeys = []string{"name", "sample_rate", "bit_depth", "channels", "tuning", "keys", "velocities",
 	"hold", "tail", "band_limit", "band_fade", "normalize", "loop", "round_robin", "seed", "dither",
 	"envelope", "partials", "body", "output"}
@@ -260,6 +278,8 @@ func (d *decoder) patch(root *yaml.Node, p *Patch) {
 			if s, ok := d.text(v, path); ok {
 				if !namePattern.MatchString(s) {
 					d.errorf(d.resolve(v), path, "name %q must start with a-z or 0-9 and hold only a-z, 0-9, '.', '_' and '-' (it becomes part of file names)", clip(s))
+				} else if deviceName(s) {
+					d.errorf(d.resolve(v), path, "name %q is a device name on Windows, where %s.sfz could not be written; choose another", s, s)
 				}
 				p.Name = s
 			}
@@ -311,7 +331,12 @@ func (d *decoder) patch(root *yaml.Node, p *Patch) {
 			partialsNode = v
 		case "output":
 			d.fields(v, path, []string{"dir"}, func(_ string, v *yaml.Node, path string) {
-				outputDir, _ = d.text(v, path)
+				dir, ok := d.text(v, path)
+				if ok && !localPath(dir) {
+					d.errorf(d.resolve(v), path, "output dir %q must be a path inside the patch's folder, without '..' or a leading '/'; to render elsewhere, pass -o on the command line", clip(dir))
+					return
+				}
+				outputDir = dir
 			})
 		}
 	})
@@ -325,6 +350,13 @@ func (d *decoder) patch(root *yaml.Node, p *Patch) {
 			at, path = holdNode, "hold"
 		}
 		d.errorf(at, path, "hold + tail is %g s; a file may last at most %d s", p.Hold+p.Tail, MaxSeconds)
+	}
+	if p.Hold+p.Tail == 0 {
+		at, path := tailNode, "tail"
+		if at == nil {
+			at, path = holdNode, "hold"
+		}
+		d.errorf(at, path, "hold + tail is 0 s; a file needs some length")
 	}
 	if p.Name == "" && !hasKey(root, "name") {
 		d.errorf(root, "name", "the patch needs a name (it becomes part of every file name)")

@@ -476,6 +476,46 @@ partials: [{ratio: 1}]
 		line: 2, column: 35, path: "envelope.points[1][1]", msg: "1.5 is out of range: expected 0..1",
 	},
 	{
+		name: "output dir climbing out",
+		src: `name: harbor-glass
+output: {dir: ../../etc}
+partials: [{ratio: 1}]
+`,
+		line: 2, column: 15, path: "output.dir", msg: `output dir "../../etc" must be a path inside the patch's folder`,
+	},
+	{
+		name: "output dir absolute",
+		src: `name: harbor-glass
+output: {dir: /var/tmp/set}
+partials: [{ratio: 1}]
+`,
+		line: 2, column: 15, path: "output.dir", msg: "without '..' or a leading '/'",
+	},
+	{
+		name: "name that is a device",
+		src: `name: nul
+partials: [{ratio: 1}]
+`,
+		line: 1, column: 7, path: "name", msg: `name "nul" is a device name on Windows`,
+	},
+	{
+		name: "hold and tail zero",
+		src: `name: harbor-glass
+hold: 0
+tail: 0
+partials: [{ratio: 1}]
+`,
+		line: 3, column: 7, path: "tail", msg: "hold + tail is 0 s; a file needs some length",
+	},
+	{
+		name: "huge number",
+		src: `name: harbor-glass
+hold: 1e300
+partials: [{ratio: 1}]
+`,
+		line: 2, column: 7, path: "hold", msg: "1e+300 s is out of range: expected 0..600 s",
+	},
+	{
 		name: "group with harmonics and ratio",
 		src: `name: harbor-glass
 partials:
@@ -1179,8 +1219,7 @@ func TestParseOutputDir(t *testing.T) {
 		{"harbor-glass.yaml", "", filepath.Join("out", "harbor-glass")},
 		{filepath.Join("patches", "harbor-glass.yaml"), "", filepath.Join("patches", "out", "harbor-glass")},
 		{filepath.Join("patches", "harbor-glass.yaml"), "output: {dir: renders/glass}\n", filepath.Join("patches", "renders", "glass")},
-		{filepath.Join("patches", "harbor-glass.yaml"), "output: {dir: ../renders}\n", "renders"},
-		{filepath.Join("patches", "harbor-glass.yaml"), "output: {dir: '" + abs + "/glass/'}\n", filepath.Join(abs, "glass")},
+		{filepath.Join("patches", "harbor-glass.yaml"), "output: {dir: renders/../glass}\n", filepath.Join("patches", "glass")},
 		{filepath.Join(abs, "harbor-glass.yaml"), "", filepath.Join(abs, "out", "harbor-glass")},
 	}
 	for _, tt := range tests {

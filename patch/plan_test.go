@@ -104,10 +104,10 @@ partials:
 		t.Errorf("a second Expand gave a different plan")
 	}
 
-	// Hold and tail of zero still make a file of one frame.
-	plan = mustExpand(t, "name: x\nhold: 0\ntail: 0\npartials: [{ratio: 1}]\n", patch.ExpandOptions{})
+	// A tail shorter than a frame still makes a file of one frame.
+	plan = mustExpand(t, "name: x\nhold: 0\ntail: 0.00001\npartials: [{ratio: 1}]\n", patch.ExpandOptions{})
 	if n := plan.Notes[0]; n.Frames != 1 || n.NoteOff != 0 {
-		t.Errorf("hold 0, tail 0: frames %d, note-off %d; want 1, 0", n.Frames, n.NoteOff)
+		t.Errorf("hold 0, tail 0.00001: frames %d, note-off %d; want 1, 0", n.Frames, n.NoteOff)
 	}
 	// 44.1 kHz stereo: 1.5 s + 0.25 s = 77175 frames, note-off at 66150.
 	plan = mustExpand(t, "name: x\nsample_rate: 44100\nchannels: 2\nhold: 1.5\ntail: 0.25\npartials: [{ratio: 1}]\n", patch.ExpandOptions{})

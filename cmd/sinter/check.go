@@ -9,7 +9,7 @@ import (
 
 	"sinter/patch"
 	"sinter/synth"
-	"sinter/synth/wav"
+	"sinter/synth/sampleset"
 )
 
 func check(args []string, stdout, stderr io.Writer) int {
@@ -56,6 +56,7 @@ type planSummary struct {
 	BandLimit    float64   `json:"band_limit"`
 	Levelling    string    `json:"levelling"`
 	Dither       bool      `json:"dither"`
+	OverLimit    string    `json:"over_limit,omitempty"` // why render would refuse it without --allow-large
 	PerKey       []keyPlan `json:"per_key"`
 }
 
@@ -107,14 +108,14 @@ func summarize(plan *patch.Plan, p *patch.Patch) planSummary {
 	if p.TailUntil > 0 {
 		s.TailUntilDB = 20 * math.Log10(p.TailUntil)
 	}
+	est := sampleset.EstimatePlan(plan)
+	s.AudioSeconds, s.Bytes, s.Work.Nominal = est.AudioSeconds, est.Bytes, est.PartialSamples
+	if err := sampleset.DefaultLimits.Check(est); err != nil {
+		s.OverLimit = err.Error()
+	}
 	for i := range plan.Notes {
 		n := &plan.Notes[i]
-		s.AudioSeconds += float64(n.Frames) / float64(n.SampleRate)
-		s.Bytes += wav.Size(n.Frames, wav.Options{SampleRate: n.SampleRate, BitDepth: plan.BitDepth, Channels: n.Channels,
-			Sampler: &wav.Sampler{}, Instrument: &wav.Instrument{}})
-		w := synth.Work(n)
-		s.Work.Computed += w.PartialSamples
-		s.Work.Nominal += w.Nominal
+		s.Work.Computed += synth.Work(n).PartialSamples
 		if i > 0 && plan.Notes[i-1].Key == n.Key {
 			continue
 		}
@@ -163,6 +164,9 @@ func printPlan(w io.Writer, s *planSummary) {
 		dither = "TPDF, ±1 LSB"
 	}
 	fmt.Fprintf(w, "  levelling: %s; dither %s\n", s.Levelling, dither)
+	if s.OverLimit != "" {
+		fmt.Fprintf(w, "  limits:   %s; render needs --allow-large\n", s.OverLimit)
+	}
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
 	fmt.Fprintln(tw, "key\tmidi\tf0 Hz\tkept\tfaded\tdropped\thighest Hz\tcrest dB\tloop s\tloop kind\tpitch error\t")
 	for _, k := range s.PerKey {

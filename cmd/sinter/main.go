@@ -33,7 +33,7 @@ const (
 const usage = `sinter compiles a patch of sine partials into a sampler-ready sample set.
 
 Usage:
-  sinter render PATCH.yaml [-o DIR] [--keys LIST] [--jobs N] [--quiet] [--json]
+  sinter render PATCH.yaml [-o DIR] [--keys LIST] [--jobs N] [--quiet] [--json] [--allow-large]
       Render every root key and velocity layer into DIR (default: the
       patch's output.dir): WAV files, an SFZ mapping and manifest.json.
   sinter check PATCH.yaml [--keys LIST] [--json]
@@ -175,6 +175,7 @@ func render(args []string, stdout, stderr io.Writer) int {
 	jobs := fs.Int("jobs", runtime.NumCPU(), "notes rendered at once")
 	quiet := fs.Bool("quiet", false, "print nothing but errors")
 	asJSON := fs.Bool("json", false, "print a summary of the set, or the errors, as JSON on stdout")
+	allowLarge := fs.Bool("allow-large", false, "render sets beyond the default limits")
 	path, ok := parseArgs(fs, args, stderr)
 	if !ok {
 		return exitUsage
@@ -190,13 +191,20 @@ func render(args []string, stdout, stderr io.Writer) int {
 	}
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
 	defer stop()
-	opts := sampleset.Options{Jobs: *jobs, Version: version}
+	opts := sampleset.Options{Jobs: *jobs, Version: version, Limits: sampleset.DefaultLimits}
+	if *allowLarge {
+		opts.Limits = sampleset.Limits{}
+	}
 	if !*quiet {
 		opts.Progress = progressPrinter(stderr)
 	}
 	res, err := sampleset.Build(ctx, plan, opts)
-	if errors.Is(err, context.Canceled) {
+	var limit *sampleset.LimitError
+	switch {
+	case errors.Is(err, context.Canceled):
 		err = errors.New("interrupted; the previous set, if any, is unchanged")
+	case errors.As(err, &limit):
+		return out.fail(exitUsage, fmt.Errorf("%w; check the patch, or pass --allow-large to render it anyway", err))
 	}
 	if err != nil {
 		return out.fail(exitFailure, err)

@@ -6,6 +6,7 @@ import (
 	"os"
 	"path/filepath"
 	"reflect"
+	"strconv"
 	"strings"
 	"testing"
 )
@@ -221,4 +222,28 @@ func TestJSONReports(t *testing.T) {
 			t.Fatalf("exit %d, report %+v", code, r)
 		}
 	})
+}
+
+// TestRenderRefusesHugeSets: a patch whose set passes the default limits
+// (here 128 keys × 127 layers × 4 round robins, 65 024 files) is refused
+// with exit status 2 and a message naming the flag, and nothing is
+// written; check warns about it.
+func TestRenderRefusesHugeSets(t *testing.T) {
+	var vels []string
+	for v := 1; v <= 127; v++ {
+		vels = append(vels, strconv.Itoa(v))
+	}
+	src := "name: huge\nsample_rate: 8000\nkeys: {from: 0, to: 127}\nvelocities: [" + strings.Join(vels, ", ") + "]\nround_robin: 4\nhold: 0.05\ntail: 0.01\npartials: [{ratio: 1}]\n"
+	path := writePatch(t, src)
+	out := filepath.Join(t.TempDir(), "set")
+	code, _, stderr := runCLI("render", path, "-o", out, "--quiet")
+	if code != exitUsage || !strings.Contains(stderr, "65024 files, more than the limit of 50000") || !strings.Contains(stderr, "--allow-large") {
+		t.Fatalf("exit %d, stderr %q", code, stderr)
+	}
+	if _, err := os.Stat(out); !os.IsNotExist(err) {
+		t.Errorf("the output folder exists after a refused render")
+	}
+	if _, stdout, _ := runCLI("check", path); !strings.Contains(stdout, "limits:   the set would have 65024 files") {
+		t.Errorf("check does not warn about the limit:\n%s", stdout)
+	}
 }

@@ -1,12 +1,16 @@
 package main
 
 import (
+	"crypto/sha256"
+	"errors"
 	"fmt"
 	"os"
 	"os/exec"
 	"path/filepath"
+	"strings"
 	"syscall"
 	"testing"
+	"time"
 )
 
 // runAsCLI, set in the environment, makes the test binary act as the
@@ -69,4 +73,87 @@ partials:
 	if fiveHundred > 2*five {
 		t.Errorf("500 files took %d KiB at peak, more than twice the %d KiB of 5 files", fiveHundred, five)
 	}
+}
+
+// TestInterruptKeepsThePreviousSet interrupts a real render with SIGINT
+// and with SIGTERM while it writes over an earlier set: the command exits
+// with status 1 saying it was interrupted, every file of the earlier set
+// keeps its hash, and no staging folder or partial file is left.
+func TestInterruptKeepsThePreviousSet(t *testing.T) {
+	if testing.Short() {
+		t.Skip("runs renders in child processes")
+	}
+	for _, sig := range []syscall.Signal{syscall.SIGINT, syscall.SIGTERM} {
+		t.Run(sig.String(), func(t *testing.T) {
+			root := t.TempDir()
+			out := filepath.Join(root, "set")
+			small := filepath.Join(root, "small.yaml")
+			heavy := filepath.Join(root, "heavy.yaml")
+			os.WriteFile(small, []byte("name: s\nsample_rate: 8000\nkeys: [C4, G4]\nhold: 0.2\ntail: 0.1\npartials: [{harmonics: 4}]\n"), 0o644)
+			os.WriteFile(heavy, []byte("name: s\nkeys: {from: C2, to: G3}\nvelocities: [60, 120]\nhold: 8\ntail: 2\npartials: [{harmonics: 400, amplitude: \"1/n\"}]\n"), 0o644)
+			if b, err := command("render", small, "-o", out, "--quiet").CombinedOutput(); err != nil {
+				t.Fatalf("first render: %v\n%s", err, b)
+			}
+			before := fileHashes(t, out)
+			cmd := command("render", heavy, "-o", out, "--quiet")
+			var stderr strings.Builder
+			cmd.Stderr = &stderr
+			if err := cmd.Start(); err != nil {
+				t.Fatal(err)
+			}
+			// Wait until the render is under way: its staging folder exists.
+			deadline := time.Now().Add(20 * time.Second)
+			for {
+				staging, _ := filepath.Glob(filepath.Join(root, ".set.staging-*"))
+				if len(staging) > 0 {
+					break
+				}
+				if time.Now().After(deadline) {
+					cmd.Process.Kill()
+					t.Fatal("no staging folder appeared")
+				}
+				time.Sleep(5 * time.Millisecond)
+			}
+			time.Sleep(50 * time.Millisecond)
+			cmd.Process.Signal(sig)
+			err := cmd.Wait()
+			var exit *exec.ExitError
+			if !errors.As(err, &exit) || exit.ExitCode() != exitFailure || !strings.Contains(stderr.String(), "interrupted") {
+				t.Fatalf("exit %v, stderr %q; want status 1 and the interruption named", err, stderr.String())
+			}
+			after := fileHashes(t, out)
+			if len(after) != len(before) {
+				t.Errorf("%d files after the interrupted render, %d before", len(after), len(before))
+			}
+			for name, sum := range before {
+				if after[name] != sum {
+					t.Errorf("%s changed", name)
+				}
+			}
+			entries, _ := os.ReadDir(root)
+			for _, e := range entries {
+				if strings.HasPrefix(e.Name(), ".") {
+					t.Errorf("left behind: %s", e.Name())
+				}
+			}
+		})
+	}
+}
+
+// fileHashes returns the SHA-256 of every file in dir.
+func fileHashes(t *testing.T, dir string) map[string][32]byte {
+	t.Helper()
+	entries, err := os.ReadDir(dir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	sums := map[string][32]byte{}
+	for _, e := range entries {
+		data, err := os.ReadFile(filepath.Join(dir, e.Name()))
+		if err != nil {
+			t.Fatal(err)
+		}
+		sums[e.Name()] = sha256.Sum256(data)
+	}
+	return sums
 }

@@ -33,6 +33,9 @@ type Options struct {
 	// Progress, if set, is called after each file is written, from one
 	// goroutine at a time.
 	Progress func(done, total int, file string)
+	// Limits, if not zero, refuse a plan that would pass them before
+	// anything is written.
+	Limits Limits
 }
 
 // Result describes a finished build.
@@ -77,6 +80,9 @@ var spillPartials = func() int64 {
 // memory holds one note per job however large the set is.
 func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error) {
 	dir := plan.OutputDir
+	if err := opts.Limits.Check(EstimatePlan(plan)); err != nil {
+		return nil, err
+	}
 	if err := checkReplaceable(dir); err != nil {
 		return nil, err
 	}
@@ -404,11 +410,14 @@ func writeWAV(path string, buf []float64, n *patch.Note, plan *patch.Plan, loop 
 	return hex.EncodeToString(h.Sum(nil)), err
 }
 
+// create opens a new file for writing; tests replace it to inject faults.
+var create = func(path string) (io.WriteCloser, error) { return os.Create(path) }
+
 // writeAtomically writes a file under a temporary name and renames it when
 // complete, so no reader ever sees half a file under the final name.
 func writeAtomically(path string, write func(io.Writer) error) error {
 	tmp := path + ".partial"
-	f, err := os.Create(tmp)
+	f, err := create(tmp)
 	if err != nil {
 		return fmt.Errorf("cannot create %s: %w", tmp, err)
 	}

@@ -607,3 +607,27 @@ func TestManifestListsIncludes(t *testing.T) {
 		t.Errorf("manifest includes %+v; want strings.yaml with sha256 %x", inc, sum)
 	}
 }
+
+// TestBuildRefusesBeyondLimits: a plan past a limit fails before anything
+// is written, with an error naming the limit.
+func TestBuildRefusesBeyondLimits(t *testing.T) {
+	dir := filepath.Join(t.TempDir(), "set")
+	plan := newPlan(t, patchSource(24, 1, ""), dir)
+	est := sampleset.EstimatePlan(plan)
+	if est.Files != 4 || est.PartialSamples != 4*8*frames {
+		t.Fatalf("estimate %+v; want 4 files of 8 partials × %d frames", est, frames)
+	}
+	for _, limits := range []sampleset.Limits{{Files: 3}, {Bytes: est.Bytes - 1}, {PartialSamples: est.PartialSamples - 1}} {
+		_, err := sampleset.Build(context.Background(), plan, sampleset.Options{Jobs: 1, Limits: limits})
+		var limit *sampleset.LimitError
+		if !errors.As(err, &limit) || !strings.Contains(err.Error(), "more than the limit") {
+			t.Errorf("limits %+v: error %v; want a LimitError", limits, err)
+		}
+		if entries, _ := os.ReadDir(filepath.Dir(dir)); len(entries) != 0 {
+			t.Fatalf("limits %+v: %d entries written beside the set", limits, len(entries))
+		}
+	}
+	if _, err := sampleset.Build(context.Background(), plan, sampleset.Options{Jobs: 1, Limits: sampleset.Limits{Files: 4, Bytes: est.Bytes, PartialSamples: est.PartialSamples}}); err != nil {
+		t.Errorf("a plan exactly at its limits: %v", err)
+	}
+}
