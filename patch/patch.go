@@ -181,6 +181,18 @@ const (
 
 var namePattern = regexp.MustCompile(`^[a-z0-9][a-z0-9._-]*$`)
 
+// CheckName reports whether name can name a set: it starts every file
+// name, so it must be safe in one on every system.
+func CheckName(name string) error {
+	if !namePattern.MatchString(name) {
+		return fmt.Errorf("name %q must start with a-z or 0-9 and hold only a-z, 0-9, '.', '_' and '-' (it becomes part of file names)", clip(name))
+	}
+	if deviceName(name) {
+		return fmt.Errorf("name %q is a device name on Windows, where %s.sfz could not be written; choose another", name, name)
+	}
+	return nil
+}
+
 // deviceName reports whether name, before any extension, is one Windows
 // reserves for devices (CON, PRN, AUX, NUL, COM1–9, LPT1–9; common
 // practice), which no file there may be called.
@@ -276,10 +288,8 @@ func (d *decoder) patch(root *yaml.Node, p *Patch) {
 		switch key {
 		case "name":
 			if s, ok := d.text(v, path); ok {
-				if !namePattern.MatchString(s) {
-					d.errorf(d.resolve(v), path, "name %q must start with a-z or 0-9 and hold only a-z, 0-9, '.', '_' and '-' (it becomes part of file names)", clip(s))
-				} else if deviceName(s) {
-					d.errorf(d.resolve(v), path, "name %q is a device name on Windows, where %s.sfz could not be written; choose another", s, s)
+				if err := CheckName(s); err != nil {
+					d.errorf(d.resolve(v), path, "%v", err)
 				}
 				p.Name = s
 			}

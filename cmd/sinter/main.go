@@ -14,6 +14,7 @@ import (
 	"runtime"
 	"strings"
 	"syscall"
+	"time"
 
 	"sinter/patch"
 	"sinter/synth"
@@ -43,6 +44,11 @@ Usage:
 {"ok": false, "errors": [{"file", "line", "column", "path", "message"}]}.
   sinter verify DIR
       Read a rendered set back and check every file against its manifest.
+  sinter plot PATCH.yaml [--key C4] [--velocity V] [-o FILE.png] [--width W] [--height H]
+      Draw one note: its spectrum after the band limit, the envelopes of
+      its loudest partials and one period of its waveform, as a PNG.
+  sinter init NAME
+      Write NAME.yaml, a starter patch that renders as it is.
   sinter help
       Print this text.
   sinter --version
@@ -75,6 +81,10 @@ func run(args []string, stdout, stderr io.Writer) int {
 		return check(args[1:], stdout, stderr)
 	case "verify":
 		return verify(args[1:], stdout, stderr)
+	case "plot":
+		return plotNote(args[1:], stdout, stderr)
+	case "init":
+		return initPatch(args[1:], stdout, stderr)
 	}
 	fmt.Fprintf(stderr, "sinter: unknown command %q; run \"sinter help\" for usage\n", args[0])
 	return exitUsage
@@ -226,13 +236,15 @@ func render(args []string, stdout, stderr io.Writer) int {
 	return exitOK
 }
 
-// progressPrinter redraws one line on a terminal and prints a line per
-// file elsewhere, so CI logs stay readable.
+// progressPrinter draws a bar on a terminal — files done of total, time
+// elapsed and an estimate of the time left — and prints a line per file
+// elsewhere, so CI logs stay readable.
 func progressPrinter(w io.Writer) func(done, total int, file string) {
 	if f, ok := w.(*os.File); ok {
 		if info, err := f.Stat(); err == nil && info.Mode()&os.ModeCharDevice != 0 {
+			start := time.Now()
 			return func(done, total int, file string) {
-				fmt.Fprintf(w, "\r\x1b[K%d/%d %s", done, total, file)
+				fmt.Fprintf(w, "\r\x1b[K%s", progressBar(done, total, time.Since(start)))
 				if done == total {
 					fmt.Fprintln(w)
 				}
@@ -242,6 +254,25 @@ func progressPrinter(w io.Writer) func(done, total int, file string) {
 	return func(done, total int, file string) {
 		fmt.Fprintf(w, "%d/%d %s\n", done, total, file)
 	}
+}
+
+// progressBar is one line: a bar of 30 cells, the count, the time elapsed
+// and, from the rate so far, the time left.
+func progressBar(done, total int, elapsed time.Duration) string {
+	const cells = 30
+	filled := cells * done / max(total, 1)
+	left := time.Duration(0)
+	if done > 0 {
+		left = elapsed * time.Duration(total-done) / time.Duration(done)
+	}
+	return fmt.Sprintf("[%s%s] %d/%d files, %s elapsed, about %s left",
+		strings.Repeat("#", filled), strings.Repeat("-", cells-filled), done, total, clock(elapsed), clock(left))
+}
+
+// clock writes a duration as m:ss.
+func clock(d time.Duration) string {
+	s := int(d.Round(time.Second) / time.Second)
+	return fmt.Sprintf("%d:%02d", s/60, s%60)
 }
 
 func verify(args []string, stdout, stderr io.Writer) int {

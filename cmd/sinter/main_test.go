@@ -3,12 +3,14 @@ package main
 import (
 	"bytes"
 	"encoding/json"
+	"image/png"
 	"os"
 	"path/filepath"
 	"reflect"
 	"strconv"
 	"strings"
 	"testing"
+	"time"
 )
 
 const smallPatch = `name: test-tone
@@ -245,5 +247,64 @@ func TestRenderRefusesHugeSets(t *testing.T) {
 	}
 	if _, stdout, _ := runCLI("check", path); !strings.Contains(stdout, "limits:   the set would have 65024 files") {
 		t.Errorf("check does not warn about the limit:\n%s", stdout)
+	}
+}
+
+// TestPlot: plot writes a PNG of the size asked for, readable by
+// image/png, for the key asked for or the patch's key nearest C4.
+func TestPlot(t *testing.T) {
+	good := writePatch(t, smallPatch)
+	file := filepath.Join(t.TempDir(), "tone.png")
+	code, stdout, stderr := runCLI("plot", good, "--key", "E4", "-o", file, "--width", "640", "--height", "900")
+	if code != exitOK || !strings.Contains(stdout, "drew E4, velocity 127") {
+		t.Fatalf("exit %d, stdout %q, stderr %q", code, stdout, stderr)
+	}
+	f, err := os.Open(file)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	cfg, err := png.DecodeConfig(f)
+	if err != nil || cfg.Width != 640 || cfg.Height != 900 {
+		t.Errorf("PNG config %+v, %v; want 640 × 900", cfg, err)
+	}
+	if code, _, stderr := runCLI("plot", good, "--key", "D4"); code != exitUsage || !strings.Contains(stderr, "not one of the patch's keys") {
+		t.Errorf("a key not in the patch: exit %d, %q", code, stderr)
+	}
+}
+
+// TestInitRendersAsIs: the starter patch passes check and renders, and
+// init never overwrites a file.
+func TestInitRendersAsIs(t *testing.T) {
+	dir := t.TempDir()
+	wd, _ := os.Getwd()
+	if err := os.Chdir(dir); err != nil {
+		t.Fatal(err)
+	}
+	defer os.Chdir(wd)
+	if code, _, stderr := runCLI("init", "first-pad"); code != exitOK {
+		t.Fatalf("init: exit %d, %s", code, stderr)
+	}
+	if code, _, stderr := runCLI("render", "first-pad.yaml", "--quiet", "--keys", "C4"); code != exitOK {
+		t.Fatalf("render of the starter patch: exit %d, %s", code, stderr)
+	}
+	if code, _, stderr := runCLI("verify", filepath.Join("out", "first-pad")); code != exitOK {
+		t.Fatalf("verify: exit %d, %s", code, stderr)
+	}
+	if code, _, stderr := runCLI("init", "first-pad"); code != exitUsage || !strings.Contains(stderr, "never overwrites") {
+		t.Errorf("a second init: exit %d, %q", code, stderr)
+	}
+}
+
+// TestProgressBar: the terminal line shows the bar, the count, the time
+// elapsed and the time left at the rate so far.
+func TestProgressBar(t *testing.T) {
+	got := progressBar(12, 48, 3*time.Second)
+	want := "[#######-----------------------] 12/48 files, 0:03 elapsed, about 0:09 left"
+	if got != want {
+		t.Errorf("progressBar = %q\nwant          %q", got, want)
+	}
+	if got := progressBar(48, 48, 75*time.Second); !strings.HasSuffix(got, "48/48 files, 1:15 elapsed, about 0:00 left") {
+		t.Errorf("finished: %q", got)
 	}
 }

@@ -1,0 +1,60 @@
+package main
+
+import (
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"os"
+
+	"sinter/patch"
+)
+
+// starterPatch is what init writes: a small, complete patch that renders
+// as it is, with the settings most patches change.
+const starterPatch = `# yaml-language-server: $schema=sinter.schema.json
+# A starter patch: render it with  sinter render %[1]s.yaml
+# (audition new renders at low volume). Every key is in the README.
+name: %[1]s
+sample_rate: 48000
+bit_depth: 24
+keys: {from: C2, to: C6, step: 3}   # root keys; the sampler fills the keys between
+velocities: [64, 127]              # one layer per velocity
+hold: 2                            # seconds to note-off
+tail: 1                            # seconds after it
+normalize: {peak: -1 dBFS}         # one gain for the set
+envelope: {attack: 0.01, decay: 0.4, sustain: 0.6, release: 0.8}
+partials:
+  - harmonics: 24
+    amplitude: "vel / n"           # brighter when played harder
+    tilt: -3                       # dB per octave
+  - ratio: 2.01                    # a slightly sharp octave for shimmer
+    amplitude: -18 dB
+`
+
+func initPatch(args []string, stdout, stderr io.Writer) int {
+	fs := flag.NewFlagSet("init", flag.ContinueOnError)
+	name, ok := parseArgs(fs, args, stderr)
+	if !ok {
+		return exitUsage
+	}
+	out := reporter{stdout: stdout, stderr: stderr, command: "init"}
+	if err := patch.CheckName(name); err != nil {
+		return out.fail(exitUsage, err)
+	}
+	file := name + ".yaml"
+	f, err := os.OpenFile(file, os.O_WRONLY|os.O_CREATE|os.O_EXCL, 0o644)
+	if errors.Is(err, os.ErrExist) {
+		return out.fail(exitUsage, fmt.Errorf("%s exists; init never overwrites a patch", file))
+	}
+	if err != nil {
+		return out.fail(exitFailure, err)
+	}
+	_, err = fmt.Fprintf(f, starterPatch, name)
+	if err = errors.Join(err, f.Close()); err != nil {
+		os.Remove(file)
+		return out.fail(exitFailure, fmt.Errorf("cannot write %s: %w", file, err))
+	}
+	fmt.Fprintf(stdout, "wrote %s; render it with: sinter render %s\n", file, file)
+	return exitOK
+}

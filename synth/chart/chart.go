@@ -1,0 +1,190 @@
+// Package chart draws a note of a plan as a PNG: the spectrum of its
+// partials after the band limit, the amplitude envelopes of its loudest
+// partials, and one period of its waveform, so a designer can see what a
+// patch makes before listening. It draws with gonum's plot package.
+package chart
+
+import (
+	"errors"
+	"fmt"
+	"image/color"
+	"io"
+	"os"
+	"math"
+	"sort"
+
+	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/plotter"
+	"gonum.org/v1/plot/vg"
+	"gonum.org/v1/plot/vg/draw"
+	"gonum.org/v1/plot/vg/vgimg"
+
+	"sinter/patch"
+	"sinter/synth"
+)
+
+// Options sets the picture's size in pixels; zero fields take 1200 × 1500.
+type Options struct {
+	Width, Height int
+}
+
+// WriteFile draws note n into the PNG file path through a temporary
+// name, so a failed drawing leaves no half picture.
+func WriteFile(path string, n *patch.Note, opts Options) error {
+	tmp := path + ".partial"
+	f, err := os.Create(tmp)
+	if err != nil {
+		return fmt.Errorf("cannot create %s: %w", tmp, err)
+	}
+	err = errors.Join(Write(f, n, opts), f.Close())
+	if err == nil {
+		err = os.Rename(tmp, path)
+	}
+	if err != nil {
+		os.Remove(tmp)
+		return fmt.Errorf("cannot write %s: %w", path, err)
+	}
+	return nil
+}
+
+// envelopeLines is how many of the loudest partials the envelope panel
+// draws.
+const envelopeLines = 6
+
+// dpi is the resolution the picture is drawn at.
+const dpi = 96
+
+// floorDB is the bottom of the spectrum panel.
+const floorDB = -120
+
+// Write draws note n as a PNG into w.
+func Write(w io.Writer, n *patch.Note, opts Options) error {
+	width, height := opts.Width, opts.Height
+	if width == 0 {
+		width = 1200
+	}
+	if height == 0 {
+		height = 1500
+	}
+	if width < 200 || height < 300 || width > 10000 || height > 10000 {
+		return fmt.Errorf("chart: a picture of %d × %d pixels is not drawable; use 200..10000 wide and 300..10000 high", width, height)
+	}
+	if len(n.Partials) == 0 {
+		return fmt.Errorf("chart: the note at key %s has no partials below the band limit", patch.NoteName(n.Key))
+	}
+	panels := []*plot.Plot{spectrum(n), envelopes(n), period(n)}
+	img := vgimg.NewWith(vgimg.UseWH(vg.Length(width)/dpi*vg.Inch, vg.Length(height)/dpi*vg.Inch), vgimg.UseDPI(dpi))
+	dc := draw.New(img)
+	tiles := draw.Tiles{Rows: len(panels), Cols: 1, PadTop: vg.Points(8), PadBottom: vg.Points(8), PadLeft: vg.Points(8), PadRight: vg.Points(12), PadY: vg.Points(14)}
+	canvases := plot.Align([][]*plot.Plot{{panels[0]}, {panels[1]}, {panels[2]}}, tiles, dc)
+	for i, p := range panels {
+		p.Draw(canvases[i][0])
+	}
+	_, err := vgimg.PngCanvas{Canvas: img}.WriteTo(w)
+	return err
+}
+
+func decibels(a float64) float64 { return max(floorDB, 20*math.Log10(math.Abs(a))) }
+
+// spectrum draws each partial as a stem at its frequency, its amplitude in
+// dB, on a log frequency axis.
+func spectrum(n *patch.Note) *plot.Plot {
+	p := plot.New()
+	p.Title.Text = fmt.Sprintf("%s (%.2f Hz), velocity %d: %d partials, %d faded and %d dropped by the band limit",
+		patch.NoteName(n.Key), n.F0, n.Velocity, len(n.Partials), n.Faded, n.Dropped)
+	p.X.Label.Text = "frequency (Hz)"
+	p.Y.Label.Text = "amplitude (dB)"
+	p.X.Scale, p.X.Tick.Marker = plot.LogScale{}, plot.LogTicks{}
+	p.Y.Min, p.Y.Max = floorDB, 6
+	lowest, highest := math.Inf(1), 0.0
+	points := make(plotter.XYs, len(n.Partials))
+	for i, part := range n.Partials {
+		points[i] = plotter.XY{X: part.Hz, Y: decibels(part.Amplitude)}
+		lowest, highest = min(lowest, part.Hz), max(highest, part.Hz)
+		stem, _ := plotter.NewLine(plotter.XYs{{X: part.Hz, Y: floorDB}, points[i]})
+		stem.Color = plotterGrey
+		p.Add(stem)
+	}
+	dots, _ := plotter.NewScatter(points)
+	dots.Radius = vg.Points(2)
+	p.Add(dots)
+	p.X.Min, p.X.Max = lowest/1.2, highest*1.2
+	return p
+}
+
+// envelopes draws amplitude × envelope of the loudest partials over the
+// file's length.
+func envelopes(n *patch.Note) *plot.Plot {
+	p := plot.New()
+	p.Title.Text = "envelopes of the loudest partials"
+	p.X.Label.Text = "time (s)"
+	p.Y.Label.Text = "amplitude"
+	order := make([]int, len(n.Partials))
+	for i := range order {
+		order[i] = i
+	}
+	sort.SliceStable(order, func(a, b int) bool {
+		return math.Abs(n.Partials[order[a]].Amplitude) > math.Abs(n.Partials[order[b]].Amplitude)
+	})
+	rate := float64(n.SampleRate)
+	length, off := float64(n.Frames)/rate, float64(n.NoteOff)/rate
+	const steps = 400
+	for rank, i := range order[:min(envelopeLines, len(order))] {
+		part := n.Partials[i]
+		line := make(plotter.XYs, steps+1)
+		for s := range line {
+			t := length * float64(s) / steps
+			line[s] = plotter.XY{X: t, Y: math.Abs(part.Amplitude) * synth.At(part.Envelope, t, off)}
+		}
+		l, _ := plotter.NewLine(line)
+		l.Color = palette[rank%len(palette)]
+		l.Width = vg.Points(1.5)
+		p.Add(l)
+		p.Legend.Add(fmt.Sprintf("%.1f Hz", part.Hz), l)
+	}
+	p.Legend.Top = true
+	p.X.Min, p.X.Max = 0, length
+	return p
+}
+
+// period draws one period of the fundamental of the rendered note, from
+// the moment every envelope has settled (or as late as the file allows).
+func period(n *patch.Note) *plot.Plot {
+	p := plot.New()
+	p.Title.Text = "one period of the waveform"
+	p.X.Label.Text = "time (ms)"
+	p.Y.Label.Text = "sample"
+	mono := *n
+	mono.Channels = 1
+	buf := make([]float64, synth.Frames(&mono))
+	var r synth.Renderer
+	r.Render(buf, &mono)
+	rate := float64(n.SampleRate)
+	frames := max(2, int(math.Round(rate/n.F0)))
+	settled := 0.0
+	for _, part := range n.Partials {
+		settled = max(settled, part.Envelope.Settled())
+	}
+	start := max(0, min(int(settled*rate), n.NoteOff-frames, len(buf)-frames))
+	line := make(plotter.XYs, 0, frames)
+	for i := start; i < min(len(buf), start+frames); i++ {
+		line = append(line, plotter.XY{X: 1000 * float64(i-start) / rate, Y: buf[i]})
+	}
+	l, _ := plotter.NewLine(line)
+	l.Width = vg.Points(1.5)
+	p.Add(l, plotter.NewGrid())
+	return p
+}
+
+// plotterGrey draws the spectrum's stems; palette the envelope lines.
+var (
+	plotterGrey = color.Gray{Y: 160}
+	palette     = []color.Color{
+		color.RGBA{R: 0x1f, G: 0x5a, B: 0x96, A: 0xff},
+		color.RGBA{R: 0xc0, G: 0x50, B: 0x1a, A: 0xff},
+		color.RGBA{R: 0x2e, G: 0x8b, B: 0x57, A: 0xff},
+		color.RGBA{R: 0x8e, G: 0x3b, B: 0x9e, A: 0xff},
+		color.RGBA{R: 0x9a, G: 0x7b, B: 0x10, A: 0xff},
+		color.RGBA{R: 0x44, G: 0x44, B: 0x44, A: 0xff},
+	}
+)
