@@ -9,8 +9,8 @@ import (
 	"fmt"
 	"image/color"
 	"io"
-	"os"
 	"math"
+	"os"
 	"sort"
 
 	"gonum.org/v1/plot"
