@@ -7,6 +7,7 @@ package patch
 import (
 	"bytes"
 	"crypto/sha256"
+	_ "embed"
 	"fmt"
 	"os"
 	"path/filepath"
@@ -498,3 +499,16 @@ func (d *decoder) velocities(n *yaml.Node, path string) []int {
 	slices.Sort(vels)
 	return vels
 }
+
+//go:embed sinter.schema.json
+var schemaJSON []byte
+
+// JSONSchema returns the JSON Schema (draft 2020-12) of the patch
+// language, for editors that validate and complete patches.
+func JSONSchema() []byte { return slices.Clone(schemaJSON) }
+
+// TopKeys, GroupKeys and EnvelopeKeys list the keys the decoder knows at
+// each level, for the schema's test.
+func TopKeys() []string      { return slices.Clone(topKeys) }
+func GroupKeys() []string    { return slices.Clone(groupKeys) }
+func EnvelopeKeys() []string { return slices.Clone(envelopeKeys) }

@@ -14,7 +14,8 @@ import (
 // as it is, with the settings most patches change.
 const starterPatch = `# yaml-language-server: $schema=sinter.schema.json
 # A starter patch: render it with  sinter render %[1]s.yaml
-# (audition new renders at low volume). Every key is in the README.
+# (audition new renders at low volume). Every key is in the README;
+# sinter schema > sinter.schema.json lets an editor check and complete it.
 name: %[1]s
 sample_rate: 48000
 bit_depth: 24

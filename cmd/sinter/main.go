@@ -49,6 +49,8 @@ Usage:
       its loudest partials and one period of its waveform, as a PNG.
   sinter init NAME
       Write NAME.yaml, a starter patch that renders as it is.
+  sinter schema
+      Print the JSON Schema of the patch language, for editors.
   sinter help
       Print this text.
   sinter --version
@@ -85,6 +87,9 @@ func run(args []string, stdout, stderr io.Writer) int {
 		return plotNote(args[1:], stdout, stderr)
 	case "init":
 		return initPatch(args[1:], stdout, stderr)
+	case "schema":
+		stdout.Write(patch.JSONSchema())
+		return exitOK
 	}
 	fmt.Fprintf(stderr, "sinter: unknown command %q; run \"sinter help\" for usage\n", args[0])
 	return exitUsage

@@ -308,3 +308,19 @@ func TestProgressBar(t *testing.T) {
 		t.Errorf("finished: %q", got)
 	}
 }
+
+// TestSchemaCommand: sinter schema prints the patch language's schema as
+// JSON (encoding/json reads it) with the top-level keys of a patch.
+func TestSchemaCommand(t *testing.T) {
+	code, stdout, _ := runCLI("schema")
+	var s struct {
+		Schema     string         `json:"$schema"`
+		Properties map[string]any `json:"properties"`
+	}
+	if err := json.Unmarshal([]byte(stdout), &s); code != exitOK || err != nil {
+		t.Fatalf("exit %d, %v", code, err)
+	}
+	if s.Schema != "https://json-schema.org/draft/2020-12/schema" || s.Properties["partials"] == nil || s.Properties["sample_rate"] == nil {
+		t.Errorf("schema %+v", s)
+	}
+}
