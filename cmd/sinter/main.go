@@ -34,9 +34,10 @@ const (
 const usage = `sinter compiles a patch of sine partials into a sampler-ready sample set.
 
 Usage:
-  sinter render PATCH.yaml [-o DIR] [--keys LIST] [--jobs N] [--quiet] [--json] [--allow-large]
+  sinter render PATCH.yaml [-o DIR] [--keys LIST] [--jobs N] [--quiet] [--json] [--allow-large] [--force]
       Render every root key and velocity layer into DIR (default: the
       patch's output.dir): WAV files, an SFZ mapping and manifest.json.
+      Files the set in DIR already holds unchanged are kept, not rendered.
   sinter check PATCH.yaml [--keys LIST] [--json]
       Validate the patch and print the plan without rendering.
 
@@ -179,6 +180,8 @@ type renderSummary struct {
 	Levelling  string   `json:"levelling"`
 	Kernel     string   `json:"kernel"`
 	Work       work     `json:"partial_samples"`
+	Rendered   int      `json:"notes_rendered"`
+	Kept       int      `json:"files_kept"`
 	Rerendered int      `json:"notes_rendered_twice"`
 	Warnings   []string `json:"warnings"`
 }
@@ -191,6 +194,7 @@ func render(args []string, stdout, stderr io.Writer) int {
 	quiet := fs.Bool("quiet", false, "print nothing but errors")
 	asJSON := fs.Bool("json", false, "print a summary of the set, or the errors, as JSON on stdout")
 	allowLarge := fs.Bool("allow-large", false, "render sets beyond the default limits")
+	force := fs.Bool("force", false, "render every note, even those the output folder already holds")
 	path, ok := parseArgs(fs, args, stderr)
 	if !ok {
 		return exitUsage
@@ -206,7 +210,7 @@ func render(args []string, stdout, stderr io.Writer) int {
 	}
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
 	defer stop()
-	opts := sampleset.Options{Jobs: *jobs, Version: version, Limits: sampleset.DefaultLimits}
+	opts := sampleset.Options{Jobs: *jobs, Version: version, Limits: sampleset.DefaultLimits, Force: *force}
 	if *allowLarge {
 		opts.Limits = sampleset.Limits{}
 	}
@@ -227,7 +231,7 @@ func render(args []string, stdout, stderr io.Writer) int {
 	summary := renderSummary{Patch: plan.PatchFile, OutputDir: res.Dir, Files: len(res.Manifest.Files),
 		Levelling: res.Manifest.Levelling, Kernel: synth.Kernel(),
 		Work:       work{Computed: res.Stats.PartialSamples, Nominal: res.Stats.Nominal},
-		Rerendered: res.Rerendered, Warnings: res.Warnings}
+		Rendered: res.Rendered, Kept: res.Reused, Rerendered: res.Rerendered, Warnings: res.Warnings}
 	if out.json {
 		return out.emit(summary)
 	}
@@ -235,7 +239,12 @@ func render(args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "sinter render: warning: %s\n", w)
 	}
 	if !*quiet {
-		fmt.Fprintf(stdout, "rendered %d files into %s (levelling: %s)\n", summary.Files, summary.OutputDir, summary.Levelling)
+		if summary.Kept == 0 {
+			fmt.Fprintf(stdout, "rendered %d files into %s (levelling: %s)\n", summary.Files, summary.OutputDir, summary.Levelling)
+		} else {
+			fmt.Fprintf(stdout, "updated %s: %d files, %d kept unchanged, %d notes rendered (levelling: %s; --force renders all)\n",
+				summary.OutputDir, summary.Files, summary.Kept, summary.Rendered, summary.Levelling)
+		}
 		fmt.Fprintf(stdout, "computed %s\n", summary.Work)
 	}
 	return exitOK

@@ -58,6 +58,21 @@ type File struct {
 	Partials      int     `json:"partials"`
 	Loop          *Loop   `json:"loop,omitempty"`
 	SHA256        string  `json:"sha256"`
+	// RenderKey is a hash of everything that decides the file apart from
+	// its gain; a later render of the same folder keeps a file whose key
+	// and gain are unchanged.
+	RenderKey string `json:"render_key,omitempty"`
+	// Measured holds the levels levelling read before the gain, at full
+	// precision, so a later render can level without rendering again.
+	Measured *Measured `json:"measured,omitempty"`
+}
+
+// Measured are a file's levels before its gain: sample and true peak as
+// linear values, loudness in LUFS; nil where not measured (or silent).
+type Measured struct {
+	Peak     float64  `json:"peak"`
+	TruePeak *float64 `json:"true_peak,omitempty"`
+	Loudness *float64 `json:"loudness_lufs,omitempty"`
 }
 
 // Loop is a file's sustain loop.

@@ -36,6 +36,9 @@ type Options struct {
 	// Limits, if not zero, refuse a plan that would pass them before
 	// anything is written.
 	Limits Limits
+	// Force renders every note, even those the set in the output folder
+	// already holds.
+	Force bool
 }
 
 // Result describes a finished build.
@@ -48,7 +51,10 @@ type Result struct {
 	// levelling gain was only known after the whole set was measured and
 	// reading them back would have cost more than rendering them again.
 	Rerendered int
-	Warnings   []string
+	// Rendered counts the notes rendered at all; Reused the files kept
+	// from the set already in the output folder, unchanged.
+	Rendered, Reused int
+	Warnings         []string
 }
 
 // silentDBFS stands for the level of a file with no signal, which has no
@@ -93,10 +99,16 @@ func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error)
 		loops: make([]synth.Loop, len(notes)), looped: make([]bool, len(notes)),
 		gains: make([]float64, len(notes)), stats: make([]synth.Stats, len(notes)),
 		clipped: make([]bool, len(notes)), warnings: make([][]string, len(notes)),
+		keys: make([]string, len(notes)), measured: make([]*manifest.Measured, len(notes)),
+		rendered: make([]bool, len(notes)), reused: make([]bool, len(notes)),
+	}
+	if !opts.Force {
+		b.previous = loadPrevious(dir)
 	}
 	for i := range notes {
 		b.loops[i], b.looped[i] = synth.PlanLoop(&notes[i])
 		b.gains[i] = 1
+		b.keys[i] = renderKey(plan, &notes[i], opts.Version)
 	}
 	if err := os.MkdirAll(filepath.Dir(dir), 0o755); err != nil {
 		return nil, fmt.Errorf("cannot create the output folder's parent: %w", err)
@@ -117,16 +129,25 @@ func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error)
 
 	norm := plan.Normalize
 	if norm.Measure == patch.MeasureOff || norm.Scope == patch.ScopeFile {
+		truePeak, loudness := needs(norm)
 		err = forEach(ctx, jobs, len(notes), func(w *worker, i int) error {
-			buf := b.render(w, i)
-			if norm.Measure != patch.MeasureOff {
-				truePeak, loudness := needs(norm)
-				lv := []levels{w.measure(buf, &notes[i], truePeak, loudness)}
-				gains, warnings, err := levelGains(norm, notes[i:i+1], lv)
-				if err != nil {
+			if lv, ok := b.previous.measured(b.keys[i], truePeak, loudness); ok || norm.Measure == patch.MeasureOff {
+				// The gain follows from the note alone, so an unchanged
+				// note keeps its file.
+				if err := b.level(i, lv); err != nil {
 					return err
 				}
-				b.gains[i], b.warnings[i] = gains[0], warnings
+				if f, ok := b.previous.file(b.keys[i], b.gains[i]); ok {
+					return b.keep(i, f)
+				}
+			}
+			buf := b.render(w, i)
+			if norm.Measure != patch.MeasureOff {
+				lv := w.measure(buf, &notes[i], truePeak, loudness)
+				b.measured[i] = measuredEntry(lv, truePeak, loudness)
+				if err := b.level(i, lv); err != nil {
+					return err
+				}
 			}
 			return b.finish(w, i, buf)
 		})
@@ -139,6 +160,12 @@ func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error)
 	for i, s := range b.stats {
 		res.Stats.PartialSamples += s.PartialSamples
 		res.Stats.Nominal += s.Nominal
+		if b.rendered[i] {
+			res.Rendered++
+		}
+		if b.reused[i] {
+			res.Reused++
+		}
 		res.Warnings = append(res.Warnings, b.warnings[i]...)
 		if b.clipped[i] {
 			res.Warnings = append(res.Warnings, fmt.Sprintf("%s clips: its peak is above full scale (normalize is off)", notes[i].File))
@@ -184,6 +211,13 @@ type build struct {
 	clipped  []bool
 	warnings [][]string
 	manifest *manifest.Manifest
+	// keys are the notes' render keys; measured the levels levelling read;
+	// rendered and reused say what became of each note.
+	keys     []string
+	measured []*manifest.Measured
+	rendered []bool
+	reused   []bool
+	previous *previous // the set already in the output folder, or nil
 
 	progressMu sync.Mutex
 	done       int
@@ -197,8 +231,14 @@ func (b *build) twoPasses(ctx context.Context, jobs int, res *Result) error {
 	defer kept.remove() // on failure; the staging folder goes as well
 	truePeak, loudness := needs(b.plan.Normalize)
 	err := forEach(ctx, jobs, len(notes), func(w *worker, i int) error {
+		if lv, ok := b.previous.measured(b.keys[i], truePeak, loudness); ok {
+			measured[i] = lv
+			b.measured[i] = measuredEntry(lv, truePeak, loudness)
+			return nil
+		}
 		buf := b.render(w, i)
 		measured[i] = w.measure(buf, &notes[i], truePeak, loudness)
+		b.measured[i] = measuredEntry(measured[i], truePeak, loudness)
 		if b.stats[i].PartialSamples < spillPartials*int64(notes[i].Frames) {
 			return nil
 		}
@@ -213,7 +253,11 @@ func (b *build) twoPasses(ctx context.Context, jobs int, res *Result) error {
 	}
 	copy(b.gains, gains)
 	res.Warnings = append(res.Warnings, warnings...)
+	rerendered := make([]bool, len(notes))
 	err = forEach(ctx, jobs, len(notes), func(w *worker, i int) error {
+		if f, ok := b.previous.file(b.keys[i], b.gains[i]); ok {
+			return b.keep(i, f)
+		}
 		if kept.kept(i) {
 			buf, err := kept.read(w, i, synth.Frames(&notes[i]))
 			if err != nil {
@@ -221,16 +265,20 @@ func (b *build) twoPasses(ctx context.Context, jobs int, res *Result) error {
 			}
 			return b.finish(w, i, buf)
 		}
+		again := b.rendered[i]
 		stats := b.stats[i]
 		buf := b.render(w, i)
-		b.stats[i] = stats
+		if again {
+			b.stats[i] = stats
+			rerendered[i] = true
+		}
 		return b.finish(w, i, buf)
 	})
 	if err != nil {
 		return err
 	}
-	for i := range notes {
-		if !kept.kept(i) {
+	for _, r := range rerendered {
+		if r {
 			res.Rerendered++
 		}
 	}
@@ -241,7 +289,34 @@ func (b *build) twoPasses(ctx context.Context, jobs int, res *Result) error {
 func (b *build) render(w *worker, i int) []float64 {
 	buf := w.render(&b.plan.Notes[i], b.loops[i])
 	b.stats[i] = w.stats
+	b.rendered[i] = true
 	return buf
+}
+
+// level sets note i's gain from its own levels (no levelling, or a gain
+// per file).
+func (b *build) level(i int, lv levels) error {
+	if b.plan.Normalize.Measure == patch.MeasureOff {
+		return nil
+	}
+	gains, warnings, err := levelGains(b.plan.Normalize, b.plan.Notes[i:i+1], []levels{lv})
+	if err != nil {
+		return err
+	}
+	b.gains[i], b.warnings[i] = gains[0], warnings
+	return nil
+}
+
+// keep takes note i's file, unchanged, from the set already in the output
+// folder.
+func (b *build) keep(i int, f manifest.File) error {
+	if err := b.previous.reuse(f, b.staging); err != nil {
+		return err
+	}
+	b.reused[i] = true
+	b.manifest.Files[i] = f
+	b.progress(f.Path)
+	return nil
 }
 
 // finish applies note i's gain to buf, trims its tail, measures it and
@@ -268,16 +343,23 @@ func (b *build) finish(w *worker, i int, buf []float64) error {
 	if err != nil {
 		return err
 	}
-	b.manifest.Files[i] = manifestEntry(n, b.plan.BitDepth, frames, b.gains[i], lv, buf, loop)
-	b.manifest.Files[i].CrestFactorDB = math.Round(synth.CrestFactor(buf)*1000) / 1000
-	b.manifest.Files[i].SHA256 = sum
+	f := manifestEntry(n, b.plan.BitDepth, frames, b.gains[i], lv, buf, loop)
+	f.CrestFactorDB = math.Round(synth.CrestFactor(buf)*1000) / 1000
+	f.RenderKey, f.Measured = b.keys[i], b.measured[i]
+	f.SHA256 = sum
+	b.manifest.Files[i] = f
+	b.progress(n.File)
+	return nil
+}
+
+// progress reports one more file done.
+func (b *build) progress(file string) {
 	if b.opts.Progress != nil {
 		b.progressMu.Lock()
 		b.done++
-		b.opts.Progress(b.done, len(b.plan.Notes), n.File)
+		b.opts.Progress(b.done, len(b.plan.Notes), file)
 		b.progressMu.Unlock()
 	}
-	return nil
 }
 
 // roundDB rounds a level for the manifest, writing silence as silentDBFS

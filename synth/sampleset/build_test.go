@@ -631,3 +631,52 @@ func TestBuildRefusesBeyondLimits(t *testing.T) {
 		t.Errorf("a plan exactly at its limits: %v", err)
 	}
 }
+
+// TestIncrementalBuild counts renders: a second build of an unchanged
+// patch renders nothing and leaves the set byte for byte as it was; a new
+// key renders its notes and those of the neighbour whose key range it
+// splits, keeps the rest and removes nothing else; a key taken away leaves
+// with its files; Force renders everything. After each step the set is
+// byte for byte what a fresh build into an empty folder makes.
+func TestIncrementalBuild(t *testing.T) {
+	root := t.TempDir()
+	dir := filepath.Join(root, "set")
+	src := func(keys, normalize string) string {
+		return strings.Replace(patchSource(24, 1, "normalize: "+normalize), "keys: [60, 68]", "keys: "+keys, 1)
+	}
+	fresh := 0
+	step := func(name, keys, normalize string, force bool, rendered, reused int) {
+		t.Helper()
+		res, err := sampleset.Build(context.Background(), newPlan(t, src(keys, normalize), dir), sampleset.Options{Jobs: 2, Version: "test", Force: force})
+		if err != nil {
+			t.Fatalf("%s: %v", name, err)
+		}
+		if res.Rendered != rendered || res.Reused != reused {
+			t.Errorf("%s: rendered %d and kept %d; want %d and %d", name, res.Rendered, res.Reused, rendered, reused)
+		}
+		fresh++
+		other := filepath.Join(root, fmt.Sprintf("fresh%d", fresh))
+		build(t, newPlan(t, src(keys, normalize), other), 1)
+		a, b := snapshot(t, dir), snapshot(t, other)
+		if len(a) != len(b) {
+			t.Errorf("%s: %d files, a fresh build has %d", name, len(a), len(b))
+		}
+		for f, sum := range b {
+			if a[f] != sum {
+				t.Errorf("%s: %s differs from a fresh build's", name, f)
+			}
+		}
+	}
+	step("first", "[60, 68]", "{peak: -1 dBFS, scope: file}", false, 4, 0)
+	step("unchanged", "[60, 68]", "{peak: -1 dBFS, scope: file}", false, 0, 4)
+	step("key added", "[60, 68, 72]", "{peak: -1 dBFS, scope: file}", false, 4, 2)
+	step("key removed", "[60, 68]", "{peak: -1 dBFS, scope: file}", false, 2, 2)
+	step("forced", "[60, 68]", "{peak: -1 dBFS, scope: file}", true, 4, 0)
+	// With one gain for the set, the loudest file keeps the gain it had on
+	// its own, so it is kept; the others render. An unchanged set renders
+	// nothing: the measurements come from the manifest.
+	step("set gain", "[60, 68]", "{peak: -1 dBFS}", false, 3, 1)
+	step("set gain unchanged", "[60, 68]", "{peak: -1 dBFS}", false, 0, 4)
+	step("normalize off", "[60, 68]", "off", false, 4, 0)
+	step("normalize off unchanged", "[60, 68]", "off", false, 0, 4)
+}
