@@ -34,10 +34,12 @@ const (
 const usage = `sinter compiles a patch of sine partials into a sampler-ready sample set.
 
 Usage:
-  sinter render PATCH.yaml [-o DIR] [--keys LIST] [--jobs N] [--quiet] [--json] [--allow-large] [--force]
+  sinter render PATCH.yaml [-o DIR] [--keys LIST] [--jobs N] [--quiet] [--json] [--allow-large] [--force] [--shard K/N|auto]
       Render every root key and velocity layer into DIR (default: the
       patch's output.dir): WAV files, an SFZ mapping and manifest.json.
       Files the set in DIR already holds unchanged are kept, not rendered.
+  sinter merge PATCH.yaml [-o DIR] SHARD_DIR... [--json]
+      Join the folders of the shards of one set (render --shard) into DIR.
   sinter check PATCH.yaml [--keys LIST] [--json]
       Validate the patch and print the plan without rendering.
 
@@ -88,6 +90,8 @@ func run(args []string, stdout, stderr io.Writer) int {
 		return plotNote(args[1:], stdout, stderr)
 	case "init":
 		return initPatch(args[1:], stdout, stderr)
+	case "merge":
+		return merge(args[1:], stdout, stderr)
 	case "schema":
 		stdout.Write(patch.JSONSchema())
 		return exitOK
@@ -99,24 +103,33 @@ func run(args []string, stdout, stderr io.Writer) int {
 // parseArgs parses flags that may come before or after the one positional
 // argument, as in "sinter render patch.yaml -o out".
 func parseArgs(fs *flag.FlagSet, args []string, stderr io.Writer) (string, bool) {
-	fs.SetOutput(io.Discard)
-	var positional []string
-	for {
-		if err := fs.Parse(args); err != nil {
-			fmt.Fprintf(stderr, "sinter %s: %v\n", fs.Name(), err)
-			return "", false
-		}
-		if fs.NArg() == 0 {
-			break
-		}
-		positional = append(positional, fs.Arg(0))
-		args = fs.Args()[1:]
+	positional, ok := parsePositional(fs, args, stderr)
+	if !ok {
+		return "", false
 	}
 	if len(positional) != 1 {
 		fmt.Fprintf(stderr, "sinter %s: expected one argument, got %d; run \"sinter help\" for usage\n", fs.Name(), len(positional))
 		return "", false
 	}
 	return positional[0], true
+}
+
+// parsePositional parses flags placed anywhere among the positional
+// arguments, which it returns.
+func parsePositional(fs *flag.FlagSet, args []string, stderr io.Writer) ([]string, bool) {
+	fs.SetOutput(io.Discard)
+	var positional []string
+	for {
+		if err := fs.Parse(args); err != nil {
+			fmt.Fprintf(stderr, "sinter %s: %v\n", fs.Name(), err)
+			return nil, false
+		}
+		if fs.NArg() == 0 {
+			return positional, true
+		}
+		positional = append(positional, fs.Arg(0))
+		args = fs.Args()[1:]
+	}
 }
 
 // parseKeys reads a --keys list such as "C4,E4", "60-72" or "C-1-C0".
@@ -195,6 +208,7 @@ func render(args []string, stdout, stderr io.Writer) int {
 	asJSON := fs.Bool("json", false, "print a summary of the set, or the errors, as JSON on stdout")
 	allowLarge := fs.Bool("allow-large", false, "render sets beyond the default limits")
 	force := fs.Bool("force", false, "render every note, even those the output folder already holds")
+	shardFlag := fs.String("shard", "", "render one slice of the set: K/N, or auto from the environment")
 	path, ok := parseArgs(fs, args, stderr)
 	if !ok {
 		return exitUsage
@@ -208,9 +222,15 @@ func render(args []string, stdout, stderr io.Writer) int {
 	if err != nil {
 		return out.fail(exitUsage, err)
 	}
+	var shard sampleset.Shard
+	if *shardFlag != "" {
+		if shard, err = parseShard(*shardFlag, os.Getenv); err != nil {
+			return out.fail(exitUsage, err)
+		}
+	}
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
 	defer stop()
-	opts := sampleset.Options{Jobs: *jobs, Version: version, Limits: sampleset.DefaultLimits, Force: *force}
+	opts := sampleset.Options{Jobs: *jobs, Version: version, Limits: sampleset.DefaultLimits, Force: *force, Shard: shard}
 	if *allowLarge {
 		opts.Limits = sampleset.Limits{}
 	}
@@ -230,7 +250,7 @@ func render(args []string, stdout, stderr io.Writer) int {
 	}
 	summary := renderSummary{Patch: plan.PatchFile, OutputDir: res.Dir, Files: len(res.Manifest.Files),
 		Levelling: res.Manifest.Levelling, Kernel: synth.Kernel(),
-		Work:       work{Computed: res.Stats.PartialSamples, Nominal: res.Stats.Nominal},
+		Work:     work{Computed: res.Stats.PartialSamples, Nominal: res.Stats.Nominal},
 		Rendered: res.Rendered, Kept: res.Reused, Rerendered: res.Rerendered, Warnings: res.Warnings}
 	if out.json {
 		return out.emit(summary)

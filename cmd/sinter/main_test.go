@@ -3,6 +3,7 @@ package main
 import (
 	"bytes"
 	"encoding/json"
+	"fmt"
 	"image/png"
 	"os"
 	"path/filepath"
@@ -11,6 +12,8 @@ import (
 	"strings"
 	"testing"
 	"time"
+
+	"sinter/synth/sampleset"
 )
 
 const smallPatch = `name: test-tone
@@ -322,5 +325,76 @@ func TestSchemaCommand(t *testing.T) {
 	}
 	if s.Schema != "https://json-schema.org/draft/2020-12/schema" || s.Properties["partials"] == nil || s.Properties["sample_rate"] == nil {
 		t.Errorf("schema %+v", s)
+	}
+}
+
+// TestParseShard reads K/N and the variables batch engines set.
+func TestParseShard(t *testing.T) {
+	env := func(vars ...string) func(string) string {
+		return func(k string) string {
+			for i := 0; i+1 < len(vars); i += 2 {
+				if vars[i] == k {
+					return vars[i+1]
+				}
+			}
+			return ""
+		}
+	}
+	cases := []struct {
+		value string
+		env   func(string) string
+		want  sampleset.Shard
+		err   string
+	}{
+		{"2/3", env(), sampleset.Shard{Index: 2, Count: 3}, ""},
+		{"auto", env("SINTER_SHARD", "3/3"), sampleset.Shard{Index: 3, Count: 3}, ""},
+		{"auto", env("CI_NODE_INDEX", "1", "CI_NODE_TOTAL", "4"), sampleset.Shard{Index: 1, Count: 4}, ""},
+		{"auto", env("CIRCLE_NODE_INDEX", "0", "CIRCLE_NODE_TOTAL", "2"), sampleset.Shard{Index: 1, Count: 2}, ""},
+		{"auto", env("BUILDKITE_PARALLEL_JOB", "4", "BUILDKITE_PARALLEL_JOB_COUNT", "5"), sampleset.Shard{Index: 5, Count: 5}, ""},
+		{"auto", env("JOB_COMPLETION_INDEX", "2", "SINTER_SHARDS", "3"), sampleset.Shard{Index: 3, Count: 3}, ""},
+		{"auto", env("JOB_COMPLETION_INDEX", "2"), sampleset.Shard{}, "found no shard"},
+		{"0/3", env(), sampleset.Shard{}, "does not exist"},
+		{"4/3", env(), sampleset.Shard{}, "does not exist"},
+		{"two", env(), sampleset.Shard{}, "is not K/N"},
+	}
+	for _, c := range cases {
+		got, err := parseShard(c.value, c.env)
+		if c.err != "" {
+			if err == nil || !strings.Contains(err.Error(), c.err) {
+				t.Errorf("%q: %v, %v; want an error with %q", c.value, got, err, c.err)
+			}
+			continue
+		}
+		if err != nil || got != c.want {
+			t.Errorf("%q: %v, %v; want %v", c.value, got, err, c.want)
+		}
+	}
+}
+
+// TestShardedRenderAndMerge: three shard renders merged with the merge
+// command give the files of a single render, byte for byte.
+func TestShardedRenderAndMerge(t *testing.T) {
+	root := t.TempDir()
+	path := writePatch(t, strings.Replace(smallPatch, "keys: [C4, E4]", "keys: [C3, G3, C4, E4, G4]", 1))
+	if code, _, stderr := runCLI("render", path, "-o", filepath.Join(root, "single"), "--quiet"); code != exitOK {
+		t.Fatalf("render: %s", stderr)
+	}
+	var shards []string
+	for k := 1; k <= 3; k++ {
+		dir := filepath.Join(root, fmt.Sprintf("s%d", k))
+		if code, _, stderr := runCLI("render", path, "-o", dir, "--quiet", "--shard", fmt.Sprintf("%d/3", k)); code != exitOK {
+			t.Fatalf("shard %d: %s", k, stderr)
+		}
+		shards = append(shards, dir)
+	}
+	if code, stdout, stderr := runCLI(append([]string{"merge", path, "-o", filepath.Join(root, "merged")}, shards...)...); code != exitOK || !strings.Contains(stdout, "merged 3 shards") {
+		t.Fatalf("merge: exit %d, %s %s", code, stdout, stderr)
+	}
+	for _, name := range []string{"manifest.json", "test-tone.sfz", "test-tone_060_C4_v127.wav"} {
+		a, _ := os.ReadFile(filepath.Join(root, "single", name))
+		b, _ := os.ReadFile(filepath.Join(root, "merged", name))
+		if len(a) == 0 || !bytes.Equal(a, b) {
+			t.Errorf("%s differs between the single render and the merge", name)
+		}
 	}
 }

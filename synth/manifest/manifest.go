@@ -20,6 +20,16 @@ type Manifest struct {
 	Levelling string `json:"levelling"` // what the gains were set by, e.g. "peak -1 dBFS per key"
 	Mapping   string `json:"mapping"`   // the SFZ file, relative to the folder
 	Files     []File `json:"files"`
+	// Shard is set in the folder of one shard of a set, which holds only
+	// that shard's files and no mapping until the shards are merged.
+	Shard *Shard `json:"shard,omitempty"`
+}
+
+// Shard says which slice of a set a folder holds.
+type Shard struct {
+	Index int   `json:"index"` // 1-based
+	Count int   `json:"count"`
+	Notes []int `json:"notes"` // each file's place in the whole set, as Files
 }
 
 // Patch identifies the patch a set was rendered from, and the files it

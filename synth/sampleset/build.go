@@ -16,6 +16,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"sync"
 
 	"sinter/patch"
@@ -39,6 +40,9 @@ type Options struct {
 	// Force renders every note, even those the set in the output folder
 	// already holds.
 	Force bool
+	// Shard, if its Count is above 1, renders one slice of the set (see
+	// Shard); Merge joins the slices.
+	Shard Shard
 }
 
 // Result describes a finished build.
@@ -110,12 +114,9 @@ func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error)
 		b.gains[i] = 1
 		b.keys[i] = renderKey(plan, &notes[i], opts.Version)
 	}
-	if err := os.MkdirAll(filepath.Dir(dir), 0o755); err != nil {
-		return nil, fmt.Errorf("cannot create the output folder's parent: %w", err)
-	}
-	staging, err := os.MkdirTemp(filepath.Dir(dir), "."+filepath.Base(dir)+".staging-")
+	staging, err := newStaging(dir)
 	if err != nil {
-		return nil, fmt.Errorf("cannot create a staging folder beside %s: %w", dir, err)
+		return nil, err
 	}
 	defer os.RemoveAll(staging) // after a successful swap it no longer exists
 	b.staging = staging
@@ -128,9 +129,10 @@ func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error)
 	}
 
 	norm := plan.Normalize
+	b.own, b.measure = opts.Shard.slice(plan)
 	if norm.Measure == patch.MeasureOff || norm.Scope == patch.ScopeFile {
 		truePeak, loudness := needs(norm)
-		err = forEach(ctx, jobs, len(notes), func(w *worker, i int) error {
+		err = b.each(ctx, jobs, b.own, func(w *worker, i int) error {
 			if lv, ok := b.previous.measured(b.keys[i], truePeak, loudness); ok || norm.Measure == patch.MeasureOff {
 				// The gain follows from the note alone, so an unchanged
 				// note keeps its file.
@@ -172,7 +174,9 @@ func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error)
 		}
 	}
 	m := b.manifest
-	if err := writeMapping(filepath.Join(staging, m.Mapping), notes, b.loops, b.looped, plan.Name); err != nil {
+	if opts.Shard.Count > 1 {
+		b.shardManifest()
+	} else if err := writeMapping(filepath.Join(staging, m.Mapping), notes, b.loops, b.looped, plan.Name); err != nil {
 		return nil, err
 	}
 	if err := writeAtomically(filepath.Join(staging, manifest.FileName), func(w io.Writer) error { return manifest.Write(w, m) }); err != nil {
@@ -186,6 +190,11 @@ func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error)
 	}
 	res.Manifest = m
 	return res, nil
+}
+
+// each calls fn for the notes idx on jobs goroutines, as forEach does.
+func (b *build) each(ctx context.Context, jobs int, idx []int, fn func(w *worker, i int) error) error {
+	return forEach(ctx, jobs, len(idx), func(w *worker, j int) error { return fn(w, idx[j]) })
 }
 
 // includes lists the plan's included files for the manifest, with
@@ -218,6 +227,9 @@ type build struct {
 	rendered []bool
 	reused   []bool
 	previous *previous // the set already in the output folder, or nil
+	// own are the notes this build writes, measure those it measures (all
+	// of them unless it is a shard).
+	own, measure []int
 
 	progressMu sync.Mutex
 	done       int
@@ -230,7 +242,7 @@ func (b *build) twoPasses(ctx context.Context, jobs int, res *Result) error {
 	kept := newSpills(b.staging, len(notes))
 	defer kept.remove() // on failure; the staging folder goes as well
 	truePeak, loudness := needs(b.plan.Normalize)
-	err := forEach(ctx, jobs, len(notes), func(w *worker, i int) error {
+	err := b.each(ctx, jobs, b.measure, func(w *worker, i int) error {
 		if lv, ok := b.previous.measured(b.keys[i], truePeak, loudness); ok {
 			measured[i] = lv
 			b.measured[i] = measuredEntry(lv, truePeak, loudness)
@@ -239,7 +251,7 @@ func (b *build) twoPasses(ctx context.Context, jobs int, res *Result) error {
 		buf := b.render(w, i)
 		measured[i] = w.measure(buf, &notes[i], truePeak, loudness)
 		b.measured[i] = measuredEntry(measured[i], truePeak, loudness)
-		if b.stats[i].PartialSamples < spillPartials*int64(notes[i].Frames) {
+		if !slices.Contains(b.own, i) || b.stats[i].PartialSamples < spillPartials*int64(notes[i].Frames) {
 			return nil
 		}
 		return kept.keep(w, i, buf)
@@ -254,7 +266,7 @@ func (b *build) twoPasses(ctx context.Context, jobs int, res *Result) error {
 	copy(b.gains, gains)
 	res.Warnings = append(res.Warnings, warnings...)
 	rerendered := make([]bool, len(notes))
-	err = forEach(ctx, jobs, len(notes), func(w *worker, i int) error {
+	err = b.each(ctx, jobs, b.own, func(w *worker, i int) error {
 		if f, ok := b.previous.file(b.keys[i], b.gains[i]); ok {
 			return b.keep(i, f)
 		}
@@ -535,6 +547,19 @@ func writeMapping(path string, notes []patch.Note, loops []synth.Loop, looped []
 	return writeAtomically(path, func(w io.Writer) error {
 		return mapping.WriteSFZ(w, regions, mapping.Options{Title: title + ", rendered by sinter", Release: release})
 	})
+}
+
+// newStaging makes the staging folder a set is written into before it is
+// swapped in: beside dir, so the swap is a rename.
+func newStaging(dir string) (string, error) {
+	if err := os.MkdirAll(filepath.Dir(dir), 0o755); err != nil {
+		return "", fmt.Errorf("cannot create the output folder's parent: %w", err)
+	}
+	staging, err := os.MkdirTemp(filepath.Dir(dir), "."+filepath.Base(dir)+".staging-")
+	if err != nil {
+		return "", fmt.Errorf("cannot create a staging folder beside %s: %w", dir, err)
+	}
+	return staging, nil
 }
 
 // checkReplaceable refuses to replace a folder that sinter did not make:

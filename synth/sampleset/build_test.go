@@ -680,3 +680,53 @@ func TestIncrementalBuild(t *testing.T) {
 	step("normalize off", "[60, 68]", "off", false, 4, 0)
 	step("normalize off unchanged", "[60, 68]", "off", false, 0, 4)
 }
+
+// TestShardsMergeToASingleRender renders a set in 3 shards and merges
+// them: the merged set is byte for byte a single render, with one gain for
+// the set (each shard measures the whole set) and with one per key.
+// Merging refuses a missing shard, a shard of another patch, and a set.
+func TestShardsMergeToASingleRender(t *testing.T) {
+	for _, normalize := range []string{"{peak: -1 dBFS}", "{peak: -1 dBFS, scope: key}"} {
+		t.Run(normalize, func(t *testing.T) {
+			root := t.TempDir()
+			src := strings.Replace(patchSource(24, 1, "normalize: "+normalize+"\nround_robin: 2"), "keys: [60, 68]", "keys: [48, 52, 55, 60, 64, 67, 72]", 1)
+			single := filepath.Join(root, "single")
+			build(t, newPlan(t, src, single), 2)
+			var shards []string
+			for k := 1; k <= 3; k++ {
+				dir := filepath.Join(root, fmt.Sprintf("shard%d", k))
+				if _, err := sampleset.Build(context.Background(), newPlan(t, src, dir), sampleset.Options{Jobs: 2, Version: "test", Shard: sampleset.Shard{Index: k, Count: 3}}); err != nil {
+					t.Fatal(err)
+				}
+				if problems, err := sampleset.Verify(dir); err != nil || len(problems) > 0 {
+					t.Fatalf("shard %d does not verify: %v %v", k, err, problems)
+				}
+				shards = append(shards, dir)
+			}
+			merged := filepath.Join(root, "merged")
+			if err := sampleset.Merge(context.Background(), newPlan(t, src, merged), merged, shards, "test"); err != nil {
+				t.Fatal(err)
+			}
+			a, b := snapshot(t, single), snapshot(t, merged)
+			if len(a) != len(b) || len(a) != 7*2*2+2 {
+				t.Fatalf("single render %d files, merged %d; want 30", len(a), len(b))
+			}
+			for f, sum := range a {
+				if b[f] != sum {
+					t.Errorf("%s differs between the single render and the merged shards", f)
+				}
+			}
+			plan := newPlan(t, src, filepath.Join(root, "again"))
+			if err := sampleset.Merge(context.Background(), plan, plan.OutputDir, shards[:2], "test"); err == nil || !strings.Contains(err.Error(), "2 of the 3 shards") {
+				t.Errorf("merging 2 of 3 shards: %v", err)
+			}
+			other := newPlan(t, strings.Replace(src, "0.2 * vel", "0.3 * vel", 1), plan.OutputDir)
+			if err := sampleset.Merge(context.Background(), other, plan.OutputDir, shards, "test"); err == nil || !strings.Contains(err.Error(), "another patch") {
+				t.Errorf("merging shards of another patch: %v", err)
+			}
+			if err := sampleset.Merge(context.Background(), plan, plan.OutputDir, []string{single}, "test"); err == nil || !strings.Contains(err.Error(), "not a shard") {
+				t.Errorf("merging a whole set: %v", err)
+			}
+		})
+	}
+}

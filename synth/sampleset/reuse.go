@@ -86,19 +86,22 @@ func (p *previous) file(key string, gain float64) (manifest.File, bool) {
 		return manifest.File{}, false
 	}
 	f, ok := p.files[key]
-	if !ok || f.GainDB != decibels(gain) {
-		return manifest.File{}, false
-	}
-	data, err := os.Open(filepath.Join(p.dir, filepath.FromSlash(f.Path)))
-	if err != nil {
-		return manifest.File{}, false
-	}
-	defer data.Close()
-	h := sha256.New()
-	if _, err := io.Copy(h, data); err != nil || hex.EncodeToString(h.Sum(nil)) != f.SHA256 {
+	if !ok || f.GainDB != decibels(gain) || !intact(p.dir, f) {
 		return manifest.File{}, false
 	}
 	return f, true
+}
+
+// intact reports whether f's file in dir holds the bytes f records.
+func intact(dir string, f manifest.File) bool {
+	data, err := os.Open(filepath.Join(dir, filepath.FromSlash(f.Path)))
+	if err != nil {
+		return false
+	}
+	defer data.Close()
+	h := sha256.New()
+	_, err = io.Copy(h, data)
+	return err == nil && hex.EncodeToString(h.Sum(nil)) == f.SHA256
 }
 
 // reuse puts the earlier build's file into the staging folder: a hard link

@@ -17,7 +17,7 @@ import (
 
 // Verify reads the set in dir back and checks every file against
 // manifest.json: that it exists, its SHA-256, its format and length, and its
-// smpl (root key, loop) and inst (key and velocity range) metadata; that the mapping file exists; and that no WAV file
+// smpl (root key, loop) and inst (key and velocity range) metadata; that the mapping file exists (a shard has none until merged); and that no WAV file
 // is there that the manifest does not list. The format is read twice, by
 // sinter's own parser and by go-audio/wav's decoder, an independent reader.
 // It returns one line per problem; none means the set is complete.
@@ -28,7 +28,7 @@ func Verify(dir string) ([]string, error) {
 	}
 	var problems []string
 	report := func(format string, args ...any) { problems = append(problems, fmt.Sprintf(format, args...)) }
-	if _, err := os.Stat(filepath.Join(dir, filepath.FromSlash(m.Mapping))); err != nil {
+	if _, err := os.Stat(filepath.Join(dir, filepath.FromSlash(m.Mapping))); err != nil && m.Shard == nil {
 		report("%s: the mapping file is missing", m.Mapping)
 	}
 	listed := map[string]bool{}

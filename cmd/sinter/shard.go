@@ -1,0 +1,102 @@
+package main
+
+import (
+	"context"
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"os"
+	"os/signal"
+	"strconv"
+	"strings"
+	"syscall"
+
+	"sinter/synth/sampleset"
+)
+
+// shardEnv are the variables batch engines give each job of a split run:
+// the job's index, whether it counts from 0 or 1, and the number of jobs.
+var shardEnv = []struct {
+	index, count string
+	from         int
+}{
+	{"CI_NODE_INDEX", "CI_NODE_TOTAL", 1},                         // GitLab CI parallel jobs
+	{"CIRCLE_NODE_INDEX", "CIRCLE_NODE_TOTAL", 0},                 // CircleCI parallelism
+	{"BUILDKITE_PARALLEL_JOB", "BUILDKITE_PARALLEL_JOB_COUNT", 0}, // Buildkite parallel steps
+	{"JOB_COMPLETION_INDEX", "SINTER_SHARDS", 0},                  // Kubernetes Indexed Job; set SINTER_SHARDS to its completions
+}
+
+// parseShard reads --shard: K/N (shard K of N, from 1), or auto, which
+// takes SINTER_SHARD=K/N or else the first pair of shardEnv that is set.
+func parseShard(value string, getenv func(string) string) (sampleset.Shard, error) {
+	if value == "auto" {
+		if v := getenv("SINTER_SHARD"); v != "" {
+			s, err := parseShard(v, getenv)
+			if err != nil {
+				return s, fmt.Errorf("SINTER_SHARD: %w", err)
+			}
+			return s, nil
+		}
+		for _, e := range shardEnv {
+			index, count := getenv(e.index), getenv(e.count)
+			if index == "" || count == "" {
+				continue
+			}
+			k, err1 := strconv.Atoi(index)
+			n, err2 := strconv.Atoi(count)
+			if err1 != nil || err2 != nil {
+				return sampleset.Shard{}, fmt.Errorf("%s=%q and %s=%q are not whole numbers", e.index, index, e.count, count)
+			}
+			return checkShard(k-e.from+1, n)
+		}
+		return sampleset.Shard{}, errors.New("--shard auto found no shard in the environment (SINTER_SHARD=K/N, CI_NODE_INDEX, CIRCLE_NODE_INDEX, BUILDKITE_PARALLEL_JOB or JOB_COMPLETION_INDEX with SINTER_SHARDS)")
+	}
+	k, n, ok := strings.Cut(value, "/")
+	ki, err1 := strconv.Atoi(k)
+	ni, err2 := strconv.Atoi(n)
+	if !ok || err1 != nil || err2 != nil {
+		return sampleset.Shard{}, fmt.Errorf("shard %q is not K/N (shard K of N, from 1) or auto", value)
+	}
+	return checkShard(ki, ni)
+}
+
+func checkShard(k, n int) (sampleset.Shard, error) {
+	if n < 1 || k < 1 || k > n {
+		return sampleset.Shard{}, fmt.Errorf("shard %d of %d does not exist; shards run from 1 to N", k, n)
+	}
+	return sampleset.Shard{Index: k, Count: n}, nil
+}
+
+func merge(args []string, stdout, stderr io.Writer) int {
+	fs := flag.NewFlagSet("merge", flag.ContinueOnError)
+	outDir := fs.String("o", "", "folder of the merged set (default: the patch's output.dir)")
+	asJSON := fs.Bool("json", false, "print the result, or the errors, as JSON on stdout")
+	positional, ok := parsePositional(fs, args, stderr)
+	if !ok {
+		return exitUsage
+	}
+	if len(positional) < 2 {
+		fmt.Fprintf(stderr, "sinter merge: expected the patch and the shard folders; run \"sinter help\" for usage\n")
+		return exitUsage
+	}
+	out := reporter{json: *asJSON, stdout: stdout, stderr: stderr, command: "merge"}
+	plan, _, err := loadPlan(positional[0], "", *outDir)
+	if err != nil {
+		return out.fail(exitUsage, err)
+	}
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	defer stop()
+	if err := sampleset.Merge(ctx, plan, plan.OutputDir, positional[1:], version); err != nil {
+		return out.fail(exitFailure, err)
+	}
+	if out.json {
+		return out.emit(struct {
+			OutputDir string `json:"output_dir"`
+			Files     int    `json:"files"`
+			Shards    int    `json:"shards"`
+		}{plan.OutputDir, len(plan.Notes), len(positional) - 1})
+	}
+	fmt.Fprintf(stdout, "merged %d shards into %s: %d files\n", len(positional)-1, plan.OutputDir, len(plan.Notes))
+	return exitOK
+}
