@@ -33,8 +33,9 @@ type segment struct {
 	start, end float64
 	from, to   float64
 	curved     bool
-	// back steps the curve's exponential back by ControlFrames samples:
-	// e^(k·ControlFrames/(end − start)).
+	// back steps the curve's exponential back by ControlFrames samples,
+	// e^(k·ControlFrames/(end − start)); the vector kernel sets it, as only
+	// it steps curves.
 	back float64
 }
 
@@ -83,11 +84,7 @@ func newEnvelope(e patch.Envelope, sampleRate, noteOff float64, store []segment)
 		if end <= start {
 			return
 		}
-		s := segment{start: start, end: end, from: from, to: to, curved: curved && from != to}
-		if s.curved && !math.IsInf(end, 1) {
-			s.back = math.Exp(curveDepth * ControlFrames / (end - start))
-		}
-		store = append(store, s)
+		store = append(store, segment{start: start, end: end, from: from, to: to, curved: curved && from != to})
 		env.held++
 	}
 	if len(e.Points) == 0 {
@@ -112,9 +109,6 @@ func newEnvelope(e patch.Envelope, sampleRate, noteOff float64, store []segment)
 	}
 	env.releaseEnd = noteOff + e.Release*sampleRate
 	release := segment{start: noteOff, end: env.releaseEnd, from: env.segs[env.heldAt(noteOff)].at(noteOff), curved: !e.Linear}
-	if release.curved && release.end > release.start {
-		release.back = math.Exp(curveDepth * ControlFrames / (release.end - release.start))
-	}
 	store = append(store, release)
 	env.segs = store[first:len(store):len(store)]
 	return env, store
@@ -191,6 +185,7 @@ func (e *envelope) peakIn(t0, t1, atStart float64) float64 {
 // At returns the level of envelope e at t seconds for a note released at
 // noteOff seconds: the exact curve that Render meets at its control points.
 func At(e patch.Envelope, t, noteOff float64) float64 {
-	env, _ := newEnvelope(e, 1, noteOff, make([]segment, 0, segmentCount(e)))
+	var store [patch.MaxEnvelopePoints + 2]segment
+	env, _ := newEnvelope(e, 1, noteOff, store[:0])
 	return env.levelIn(env.segment(t), t)
 }

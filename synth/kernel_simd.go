@@ -104,6 +104,11 @@ func (l *laneBank) prepare(osc []oscillator) {
 			t.stepCos[j], t.stepSin[j] = -2*sin4*s, 2*sin4*c
 			t.negK[j] = -4 * sin4 * sin4
 		}
+		for j := range osc[i].env.segs {
+			if s := &osc[i].env.segs[j]; s.curved && s.end > s.start && !math.IsInf(s.end, 1) {
+				s.back = math.Exp(curveDepth * ControlFrames / (s.end - s.start))
+			}
+		}
 	}
 }
 

@@ -22,22 +22,26 @@ measure() {
 	fi
 }
 
-# median of three runs: "S KIB".
+# median of three runs into a fresh folder each time: "S KIB". The first
+# argument is that folder, removed before each run so no run pays for
+# replacing the last one's set.
 median3() {
-	for _ in 1 2 3; do measure "$@"; done | sort -n | sed -n 2p
+	local dir=$1
+	shift
+	for _ in 1 2 3; do rm -rf "$dir"; measure "$@"; done | sort -n | sed -n 2p
 }
 
 pad=testdata/bench-pad.yaml
 echo "== $("$sinter" --version)"
 "$sinter" check "$pad" | sed -n '2,6p'
-read -r s1 m1 < <(median3 "$sinter" render "$pad" -o "$out/bench-pad" --jobs 1 --quiet)
-read -r s2 m2 < <(median3 "$sinter" render "$pad" -o "$out/bench-pad" --jobs 2 --quiet)
+read -r s1 m1 < <(median3 "$out/bench-pad" "$sinter" render "$pad" -o "$out/bench-pad" --jobs 1 --quiet)
+read -r s2 m2 < <(median3 "$out/bench-pad" "$sinter" render "$pad" -o "$out/bench-pad" --jobs 2 --quiet)
 echo "sinter render --jobs 1: $s1 s, peak RSS $m1 KiB"
 echo "sinter render --jobs 2: $s2 s, peak RSS $m2 KiB  (jobs 2 is $(echo "scale=2; $s1 / $s2" | bc)x jobs 1)"
 
 py=/usr/bin/python3
 if [ -x "$py" ] && "$py" -c 'import numpy' 2>/dev/null; then
-	read -r sn mn < <(median3 env OPENBLAS_NUM_THREADS=1 "$py" testdata/bench/numpy-peer.py "$out/numpy-peer")
+	read -r sn mn < <(median3 "$out/numpy-peer" env OPENBLAS_NUM_THREADS=1 "$py" testdata/bench/numpy-peer.py "$out/numpy-peer")
 	echo "numpy peer (numpy $("$py" -c 'import numpy; print(numpy.__version__)')): $sn s, peak RSS $mn KiB"
 	echo "sinter --jobs 2 is $(echo "scale=1; $sn / $s2" | bc)x faster than the numpy peer"
 else
@@ -46,6 +50,7 @@ fi
 
 dense=testdata/bench/dense-set.yaml
 "$sinter" check "$dense" | sed -n '2,6p'
+rm -rf "$out/dense-set"
 read -r sd md < <(measure "$sinter" render "$dense" -o "$out/dense-set" --quiet)
 echo "sinter render dense set: $sd s, peak RSS $md KiB"
 rm -rf "$out/dense-set" "$out/numpy-peer" "$out/bench-pad" "$out/time.txt"
