@@ -32,7 +32,7 @@ var shardEnv = []struct {
 func parseShard(value string, getenv func(string) string) (sampleset.Shard, error) {
 	if value == "auto" {
 		if v := getenv("SINTER_SHARD"); v != "" {
-			s, err := parseShard(v, getenv)
+			s, err := shardOf(v)
 			if err != nil {
 				return s, fmt.Errorf("SINTER_SHARD: %w", err)
 			}
@@ -52,6 +52,11 @@ func parseShard(value string, getenv func(string) string) (sampleset.Shard, erro
 		}
 		return sampleset.Shard{}, errors.New("--shard auto found no shard in the environment (SINTER_SHARD=K/N, CI_NODE_INDEX, CIRCLE_NODE_INDEX, BUILDKITE_PARALLEL_JOB or JOB_COMPLETION_INDEX with SINTER_SHARDS)")
 	}
+	return shardOf(value)
+}
+
+// shardOf reads K/N.
+func shardOf(value string) (sampleset.Shard, error) {
 	k, n, ok := strings.Cut(value, "/")
 	ki, err1 := strconv.Atoi(k)
 	ni, err2 := strconv.Atoi(n)
