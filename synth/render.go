@@ -260,15 +260,18 @@ func (r *Renderer) renderMono(out []float64, n *patch.Note, first int) Stats {
 // partials it is rendered beside and whichever kernel renders it.
 func (r *Renderer) scalarBlock(out []float64, live []int, b0, b1 int) {
 	for ; len(live) >= 4; live = live[4:] {
-		if !r.aloneIn(live[:4], b0, b1) {
+		switch r.groupKind(live[:4], b0, b1) {
+		case groupStill:
 			for _, i := range live[:4] {
 				r.osc[i].anchor(b0)
 			}
 			r.block4(out, live[:4], b0, b1)
-			continue
-		}
-		for _, i := range live[:4] {
-			r.single(out, &r.osc[i], b0, b1)
+		case groupMoving:
+			r.blockMoving4(out, live[:4], b0, b1)
+		default:
+			for _, i := range live[:4] {
+				r.single(out, &r.osc[i], b0, b1)
+			}
 		}
 	}
 	for _, i := range live {
@@ -276,16 +279,32 @@ func (r *Renderer) scalarBlock(out []float64, live []int, b0, b1 int) {
 	}
 }
 
-// aloneIn reports whether any of the partials idx must be rendered on its
-// own in the block [b0, b1): it has a corner of its envelope inside, or it
-// moves.
-func (r *Renderer) aloneIn(idx []int, b0, b1 int) bool {
+// The ways a group of four partials can share a block.
+const (
+	groupStill  = iota // none moves and none has a corner: block4
+	groupMoving        // all four move and none has a corner: blockMoving4
+	groupMixed         // each on its own
+)
+
+// groupKind says how the partials idx can share the block [b0, b1).
+func (r *Renderer) groupKind(idx []int, b0, b1 int) int {
+	moving := 0
 	for _, i := range idx {
-		if o := &r.osc[i]; o.motion != nil || o.nextCorner(b0) < b1 {
-			return true
+		o := &r.osc[i]
+		if o.nextCorner(b0) < b1 {
+			return groupMixed
+		}
+		if o.motion != nil {
+			moving++
 		}
 	}
-	return false
+	switch moving {
+	case 0:
+		return groupStill
+	case len(idx):
+		return groupMoving
+	}
+	return groupMixed
 }
 
 // single renders one partial's block.
@@ -312,25 +331,62 @@ func (o *oscillator) incAt(pos int) uint64 {
 // as silent. Within a span a complex rotation follows the chirp.
 func (r *Renderer) blockMoving(out []float64, o *oscillator, b0, b1 int) {
 	for pos := b0; pos < b1; {
-		for pos >= o.cellStart+ControlFrames {
-			// The trapezoid is exact for a frequency linear in time:
-			// ControlFrames·(inc + next)/2.
-			o.cellPhase += (o.cellInc + o.nextInc) * (ControlFrames / 2)
-			o.cellStart += ControlFrames
-			o.cellInc, o.nextInc = o.nextInc, o.incAt(o.cellStart+ControlFrames)
-		}
-		end := o.spanEnd(pos, min(b1, o.cellStart+ControlFrames))
-		n := uint64(pos - o.cellStart)
-		diff := int64(o.nextInc - o.cellInc) // change of the increment over the cell
-		sin, cos := sinCos(o.cellPhase + o.cellInc*n + chirpPhase(diff, n*n))
-		// The step from sample n to n+1 is inc + diff·(2n+1)/(2·ControlFrames)
-		// and grows by diff/ControlFrames each sample.
-		wi, wr := sinCos(o.cellInc + chirpPhase(diff, 2*n+1))
-		di, dr := sinCos(uint64(diff / ControlFrames))
-		o.span(pos, end)
-		kernelChirp(out[pos:end], cos, sin, wr, wi, dr, di, o.gain, o.slope)
+		end := o.spanEnd(pos, min(b1, o.cellFrom(pos)+ControlFrames))
+		c := o.chirpAt(pos, end)
+		kernelChirp(out[pos:end], &c)
 		pos = end
 	}
+}
+
+// blockMoving4 renders a block of four moving partials none of which has
+// a corner of its envelope in it: their cells share one grid, so each
+// cell is one span for all four, and the four rotations run interleaved.
+func (r *Renderer) blockMoving4(out []float64, idx []int, b0, b1 int) {
+	p0, p1, p2, p3 := &r.osc[idx[0]], &r.osc[idx[1]], &r.osc[idx[2]], &r.osc[idx[3]]
+	for pos := b0; pos < b1; {
+		end := min(b1, p0.cellFrom(pos)+ControlFrames)
+		p1.cellFrom(pos)
+		p2.cellFrom(pos)
+		p3.cellFrom(pos)
+		c := [4]chirp{p0.chirpAt(pos, end), p1.chirpAt(pos, end), p2.chirpAt(pos, end), p3.chirpAt(pos, end)}
+		kernelChirp4(out[pos:end], &c)
+		pos = end
+	}
+}
+
+// cellFrom moves the partial's cells on to the one holding pos and returns
+// its start.
+func (o *oscillator) cellFrom(pos int) int {
+	for pos >= o.cellStart+ControlFrames {
+		// The trapezoid is exact for a frequency linear in time:
+		// ControlFrames·(inc + next)/2.
+		o.cellPhase += (o.cellInc + o.nextInc) * (ControlFrames / 2)
+		o.cellStart += ControlFrames
+		o.cellInc, o.nextInc = o.nextInc, o.incAt(o.cellStart+ControlFrames)
+	}
+	return o.cellStart
+}
+
+// chirp is the state of one moving partial over a span: z = e^(iθ), the
+// turn w per sample, the turn d of w per sample, and the gain ramp.
+type chirp struct {
+	zr, zi, wr, wi, dr, di, gain, slope float64
+}
+
+// chirpAt sets up the span [pos, end) of a moving partial, which lies in
+// its current cell.
+func (o *oscillator) chirpAt(pos, end int) chirp {
+	n := uint64(pos - o.cellStart)
+	diff := int64(o.nextInc - o.cellInc) // change of the increment over the cell
+	var c chirp
+	c.zi, c.zr = sinCos(o.cellPhase + o.cellInc*n + chirpPhase(diff, n*n))
+	// The step from sample n to n+1 is inc + diff·(2n+1)/(2·ControlFrames)
+	// and grows by diff/ControlFrames each sample.
+	c.wi, c.wr = sinCos(o.cellInc + chirpPhase(diff, 2*n+1))
+	c.di, c.dr = sinCos(uint64(diff / ControlFrames))
+	o.span(pos, end)
+	c.gain, c.slope = o.gain, o.slope
+	return c
 }
 
 // chirpPhase is diff·m/(2·ControlFrames) modulo 2^64, in 128-bit
@@ -354,12 +410,35 @@ func chirpPhase(diff int64, m uint64) uint64 {
 
 // kernelChirp adds one moving partial into out: z = e^(iθ) turns by w
 // each sample and w by d, and the sample is the gain times Im z = sin θ.
-func kernelChirp(out []float64, zr, zi, wr, wi, dr, di, g, slope float64) {
+func kernelChirp(out []float64, c *chirp) {
+	zr, zi, wr, wi, dr, di, g, slope := c.zr, c.zi, c.wr, c.wi, c.dr, c.di, c.gain, c.slope
 	for i := range out {
 		out[i] += g * zi
 		zr, zi = zr*wr-zi*wi, zr*wi+zi*wr
 		wr, wi = wr*dr-wi*di, wr*di+wi*dr
 		g += slope
+	}
+}
+
+// kernelChirp4 is kernelChirp for four partials at once, whose chains the
+// processor overlaps.
+func kernelChirp4(out []float64, c *[4]chirp) {
+	a, b := c[0], c[1]
+	e, f := c[2], c[3]
+	for i := range out {
+		out[i] += (a.gain*a.zi + b.gain*b.zi) + (e.gain*e.zi + f.gain*f.zi)
+		a.zr, a.zi = a.zr*a.wr-a.zi*a.wi, a.zr*a.wi+a.zi*a.wr
+		b.zr, b.zi = b.zr*b.wr-b.zi*b.wi, b.zr*b.wi+b.zi*b.wr
+		e.zr, e.zi = e.zr*e.wr-e.zi*e.wi, e.zr*e.wi+e.zi*e.wr
+		f.zr, f.zi = f.zr*f.wr-f.zi*f.wi, f.zr*f.wi+f.zi*f.wr
+		a.wr, a.wi = a.wr*a.dr-a.wi*a.di, a.wr*a.di+a.wi*a.dr
+		b.wr, b.wi = b.wr*b.dr-b.wi*b.di, b.wr*b.di+b.wi*b.dr
+		e.wr, e.wi = e.wr*e.dr-e.wi*e.di, e.wr*e.di+e.wi*e.dr
+		f.wr, f.wi = f.wr*f.dr-f.wi*f.di, f.wr*f.di+f.wi*f.dr
+		a.gain += a.slope
+		b.gain += b.slope
+		e.gain += e.slope
+		f.gain += f.slope
 	}
 }
 
