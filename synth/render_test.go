@@ -99,6 +99,9 @@ func accuracyCases(seconds int) []accuracyCase {
 		{"6000Hz-stride", 48000, seconds, []patch.Partial{sine(6000*(1+1e-6), 1, 0.3)}},
 		{"440Hz-moving-path", 48000, seconds, []patch.Partial{still(sine(440, 1, -2.5))}},
 		{"9871.3Hz-moving-path", 48000, seconds, []patch.Partial{still(sine(9871.3, 0.5, 1))}},
+		{"bank-moving-path", 48000, seconds, []patch.Partial{
+			still(sine(55, 0.3, 0)), still(sine(440, -0.2, 1)), still(sine(3520, 0.25, 2)), still(sine(9871.3, 0.1, 3)),
+		}},
 		{"bank", 48000, seconds, []patch.Partial{
 			sine(55, 0.3, 0), sine(440, -0.2, 1), sine(3520, 0.25, 2), sine(9871.3, 0.1, 3),
 			sine(1000, 0.05, -1), sine(12345, 0.05, 0.5), sine(220, 0.05, 6),
