@@ -188,3 +188,19 @@ partials:
 		t.Errorf("energy above the band limit at %.1f dB of the partial; want below -100", db)
 	}
 }
+
+// TestLoopWaitsForMotion: a loop starts only once the pitch envelope has
+// reached its last point and the vibrato its full depth.
+func TestLoopWaitsForMotion(t *testing.T) {
+	n := onlyNote(t, `name: t
+keys: [A3]
+hold: 3
+loop: {crossfade: 0.05}
+envelope: {attack: 0.01, decay: 0.1, sustain: 0.8}
+partials:
+  - {harmonics: 4, pitch: [[0, -20], [0.3, 0]], vibrato: {rate: 5, depth: 10, delay: 0.6, fade: 0.5}}
+`)
+	if want := int(1.1*48000) + int(0.05*48000); n.Loop.Start < want {
+		t.Errorf("the loop may start at frame %d; the vibrato is at full depth only at 1.1 s, so not before %d", n.Loop.Start, want)
+	}
+}

@@ -99,7 +99,7 @@ type Drift struct {
 // renderer chooses the exact points.
 type LoopRequest struct {
 	Mode      LoopMode
-	Start     int // first frame the loop may start at; the envelopes have settled there
+	Start     int // first frame the loop may start at; the envelopes and motions have settled there
 	MaxLength int // the longest loop wanted
 	Crossfade int // crossfade length for inharmonic notes
 	Exact     bool
@@ -591,6 +591,9 @@ func (x *expander) loop(n *Note) {
 	settled := 0.0
 	for _, p := range n.Partials {
 		settled = max(settled, p.Envelope.Settled())
+		if m := p.Motion; m != nil {
+			settled = max(settled, m.Settled())
+		}
 	}
 	req := LoopRequest{Mode: spec.Mode, Crossfade: max(1, int(math.Round(spec.Crossfade*rate))), Exact: spec.Exact}
 	settledFrame := int(math.Ceil(settled * rate))
@@ -619,6 +622,19 @@ func (x *expander) loopError(msg string) {
 	x.reported["loop"] = true
 	spec := x.patch.Loop
 	x.errs = append(x.errs, &Error{File: x.patch.File, Line: spec.Line, Column: spec.Column, Path: "loop", Msg: msg})
+}
+
+// Settled is when the pitch envelope has reached its last point and the
+// vibrato its full depth; drift never settles.
+func (m *Motion) Settled() float64 {
+	t := 0.0
+	if len(m.Pitch) > 0 {
+		t = m.Pitch[len(m.Pitch)-1].Time
+	}
+	if m.Vibrato.Depth != 0 {
+		t = max(t, m.Vibrato.Delay+m.Vibrato.Fade)
+	}
+	return t
 }
 
 // Cents returns the motion's deviation in cents at t seconds after

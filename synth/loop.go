@@ -113,12 +113,32 @@ func crossfadeLoop(n *patch.Note) Loop {
 	}
 	slices.SortFunc(loud, func(a, b weighted) int { return cmp.Compare(b.weight, a.weight) })
 	loud = loud[:min(len(loud), crossfadePartials)]
+	// A vibrato must come back to its phase too, or the loop would jump
+	// in pitch at the seam: its cycles count, weighted by the partials that
+	// carry it, as strongly as all the partials' phases together.
+	var vibratos []weighted
+	total := 0.0
+	for _, p := range n.Partials {
+		w := math.Abs(p.Amplitude) * p.Envelope.Sustain
+		total += w
+		if m := p.Motion; m != nil && m.Vibrato.Depth > 0 && w > 0 {
+			vibratos = append(vibratos, weighted{m.Vibrato.Rate / float64(n.SampleRate), w})
+		}
+	}
+	loudTotal := 0.0
+	for _, p := range loud {
+		loudTotal += p.weight
+	}
 	bestLength, bestMismatch := req.MaxLength, math.Inf(1)
 	for length := req.MaxLength; length >= max(2*req.Crossfade, req.MaxLength/2); length-- {
 		mismatch := 0.0
 		for _, p := range loud {
 			cycles := p.cyclesPerFrame * float64(length)
-			mismatch += p.weight * (1 - math.Cos(2*math.Pi*(cycles-math.Round(cycles))))
+			mismatch += p.weight / loudTotal * (1 - math.Cos(2*math.Pi*(cycles-math.Round(cycles))))
+		}
+		for _, v := range vibratos {
+			cycles := v.cyclesPerFrame * float64(length)
+			mismatch += v.weight / total * (1 - math.Cos(2*math.Pi*(cycles-math.Round(cycles))))
 		}
 		if mismatch < bestMismatch {
 			bestLength, bestMismatch = length, mismatch

@@ -201,3 +201,25 @@ func TestTrimTail(t *testing.T) {
 		t.Errorf("a silent tail ends at %d, before note-off at 500", end)
 	}
 }
+
+// TestLoopWithVibrato: a note whose partials carry a vibrato loops only
+// once the vibrato has reached full depth, over close to a whole number of
+// vibrato periods, so the pitch does not jump at the seam.
+func TestLoopWithVibrato(t *testing.T) {
+	const rate = 48000
+	n := patch.Note{SampleRate: rate, Channels: 1, Frames: 4 * rate, NoteOff: 3 * rate, F0: 220}
+	for h := 1; h <= 6; h++ {
+		n.Partials = append(n.Partials, patch.Partial{Hz: 220 * float64(h), Amplitude: 1 / float64(h),
+			Envelope: patch.Envelope{Attack: 0.05, Decay: 0.1, Sustain: 0.8, Release: 0.3},
+			Motion:   &patch.Motion{Vibrato: patch.Vibrato{Rate: 5.3, Depth: 12, Delay: 0.4, Fade: 0.5}, MaxCents: 12}})
+	}
+	n.Loop = patch.LoopRequest{Mode: patch.LoopAuto, Start: int(0.9*rate) + 4800, MaxLength: rate, Crossfade: 4800}
+	loop, ok := synth.PlanLoop(&n)
+	if !ok || loop.Crossfade == 0 {
+		t.Fatalf("loop %+v, %v; want a crossfade loop (moving partials repeat no whole cycles)", loop, ok)
+	}
+	cycles := 5.3 * float64(loop.End-loop.Start+1) / rate
+	if math.Abs(cycles-math.Round(cycles)) > 0.02 {
+		t.Errorf("the loop holds %.3f vibrato cycles; want a whole number", cycles)
+	}
+}
