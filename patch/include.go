@@ -1,6 +1,7 @@
 package patch
 
 import (
+	"bytes"
 	"crypto/sha256"
 	"encoding/hex"
 	"fmt"
@@ -77,7 +78,7 @@ func (d *decoder) include(v *yaml.Node, path string, defaults EnvelopeSpec) []Gr
 		d.errs = append(d.errs, &Error{File: file, Line: 1, Column: 1, Msg: "the included file is empty; it needs a partials list"})
 		return nil
 	}
-	sub := &decoder{file: file, chain: append(slices.Clip(d.chain), filepath.Clean(file)), includes: d.includes}
+	sub := &decoder{file: file, chain: append(slices.Clip(d.chain), filepath.Clean(file)), includes: d.includes, lines: bytes.Split(data, []byte("\n"))}
 	root := sub.resolve(doc.Content[0])
 	var partials, envelope *yaml.Node
 	sub.fields(root, "", includeKeys, func(key string, v *yaml.Node, _ string) {

@@ -230,7 +230,7 @@ func Load(path string) (*Patch, error) {
 // anchors relative output folders.
 func Parse(file string, data []byte) (*Patch, error) {
 	p := &Patch{File: file, SHA256: sha256.Sum256(data)}
-	d := &decoder{file: file, chain: []string{filepath.Clean(file)}, includes: &p.Includes}
+	d := &decoder{file: file, chain: []string{filepath.Clean(file)}, includes: &p.Includes, lines: bytes.Split(data, []byte("\n"))}
 	if len(data) > maxPatchBytes {
 		return nil, ErrorList{{File: file, Msg: fmt.Sprintf("the patch is %d bytes; patches are limited to %d", len(data), maxPatchBytes)}}
 	}

@@ -516,6 +516,28 @@ partials: [{ratio: 1}]
 		line: 2, column: 7, path: "hold", msg: "1e+300 s is out of range: expected 0..600 s",
 	},
 	{
+		// The escape makes the file's text longer than the expression's,
+		// so columns inside it cannot be mapped onto the file: the error
+		// stands at the scalar and counts columns in the expression.
+		name: "expression with an escape, double-quoted",
+		src: `name: harbor-glass
+partials:
+  - harmonics: 4
+    amplitude: "1/\x28n"
+`,
+		line: 4, column: 16, path: "partials[0].amplitude", msg: `in expression "1/(n": column 5: expected ")" to close "(" at column 3`,
+	},
+	{
+		name: "expression folded over two lines",
+		src: `name: harbor-glass
+partials:
+  - harmonics: 4
+    amplitude: 1/(n
+      + 2
+`,
+		line: 4, column: 16, path: "partials[0].amplitude", msg: `in expression "1/(n + 2": column 9: expected ")" to close "(" at column 3`,
+	},
+	{
 		name: "group with harmonics and ratio",
 		src: `name: harbor-glass
 partials:

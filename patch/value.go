@@ -99,10 +99,10 @@ func (d *decoder) value(n *yaml.Node, path string, decibelsAllowed bool) (Value,
 	prog, err := expr.Compile(src, Variables)
 	if err != nil {
 		var ee *expr.Error
-		// A block scalar's text starts on a later line than the node, so
-		// its columns cannot be mapped onto the file.
-		block := n.Style&(yaml.LiteralStyle|yaml.FoldedStyle) != 0
-		if errors.As(err, &ee) && !block && !strings.Contains(src, "\n") {
+		// Columns inside the expression map onto the file only where the
+		// file holds its text verbatim on one line: not a block scalar, a
+		// scalar folded over several lines or a quoted one with escapes.
+		if errors.As(err, &ee) && d.verbatim(n) {
 			// The expression counts columns from its own start; shift them so
 			// they match the file's columns like the position before them.
 			msg := exprColumn.ReplaceAllStringFunc(ee.Msg, func(m string) string {
@@ -118,6 +118,29 @@ func (d *decoder) value(n *yaml.Node, path string, decibelsAllowed bool) (Value,
 	}
 	v.prog = prog
 	return v, true
+}
+
+// verbatim reports whether scalar n's text stands as it is on the line
+// where it starts, after its opening quote if it has one, and, if quoted,
+// is closed there.
+func (d *decoder) verbatim(n *yaml.Node) bool {
+	if n.Style&(yaml.LiteralStyle|yaml.FoldedStyle) != 0 || n.Line < 1 || n.Line > len(d.lines) {
+		return false
+	}
+	line := string(d.lines[n.Line-1])
+	start := n.Column - 1
+	quote := ""
+	switch {
+	case n.Style&yaml.DoubleQuotedStyle != 0:
+		quote = "\""
+	case n.Style&yaml.SingleQuotedStyle != 0:
+		quote = "'"
+	}
+	start += len(quote)
+	if start < 0 || start > len(line) || !strings.HasPrefix(line[start:], n.Value) {
+		return false
+	}
+	return quote == "" || strings.HasPrefix(line[start+len(n.Value):], quote)
 }
 
 // at returns an error located where the value was written, in file

@@ -27,6 +27,8 @@ type decoder struct {
 	// cycle; includes collects every file included, shared by all.
 	chain    []string
 	includes *[]Include
+	// lines is the file's text, to tell whether a scalar stands verbatim.
+	lines [][]byte
 }
 
 func (d *decoder) errorf(n *yaml.Node, path, format string, args ...any) {
