@@ -18,7 +18,8 @@ const vectorTolerance = 1e-13
 
 // TestVectorMatchesPlain renders notes with the vector kernel and with the
 // plain kernel in the same build and compares every sample. The notes
-// cover every envelope segment and both curves, corners inside blocks (which the vector
+// cover every envelope segment and both curves, a few moving partials,
+// corners inside blocks (which the vector
 // path leaves to the scalar one), an odd partial count, a last block
 // shorter than BlockFrames and a partial next to the stride-8 worst case.
 func TestVectorMatchesPlain(t *testing.T) {
@@ -53,7 +54,11 @@ func TestVectorMatchesPlain(t *testing.T) {
 					e.Points = []patch.EnvelopePoint{{Time: 0.01, Level: 1}, {Time: 0.4, Level: 0.2}, {Time: 0.9, Level: 0.7}}
 					e.Stretch = 1
 				}
-				n.Partials = append(n.Partials, patch.Partial{Hz: hz, Amplitude: 1 / float64(h), Phase: 0.37 * float64(h), Envelope: e})
+				var motion *patch.Motion
+				if h%7 == 1 { // moving partials take the scalar path beside the vector ones
+					motion = &patch.Motion{Vibrato: patch.Vibrato{Rate: 5.5, Depth: 40, Delay: 0.2, Fade: 0.3}, MaxCents: 40}
+				}
+				n.Partials = append(n.Partials, patch.Partial{Hz: hz, Amplitude: 1 / float64(h), Phase: 0.37 * float64(h), Envelope: e, Motion: motion})
 				sum += 1 / float64(h)
 			}
 			vector, plain := make([]float64, Frames(n)), make([]float64, Frames(n))
