@@ -55,7 +55,7 @@ func TestVectorMatchesPlain(t *testing.T) {
 					e.Stretch = 1
 				}
 				var motion *patch.Motion
-				if h%7 == 1 { // moving partials take the scalar path beside the vector ones
+				if h%7 == 5 { // moving partials take the scalar path beside the vector ones
 					motion = &patch.Motion{Vibrato: patch.Vibrato{Rate: 5.5, Depth: 40, Delay: 0.2, Fade: 0.3}, MaxCents: 40}
 				}
 				n.Partials = append(n.Partials, patch.Partial{Hz: hz, Amplitude: 1 / float64(h), Phase: 0.37 * float64(h), Envelope: e, Motion: motion})
