@@ -2,18 +2,14 @@
 GO ?= go
 EXAMPLES := $(wildcard examples/*.yaml)
 
-# The vector kernels need Go's SIMD experiment (Go 1.26 and later, amd64).
-# Where the toolchain has it, sinter is built with it; the plain build is
-# what `go install` makes, and `make test` tests both.
-SIMD := $(shell GOEXPERIMENT=simd $(GO) list simd/archsimd >/dev/null 2>&1 && echo yes)
-FAST := $(if $(SIMD),GOEXPERIMENT=simd)
-
-.PHONY: all build demo test fuzz bench install clean
+.PHONY: all build demo test tools asm-check fuzz bench install clean
 
 all: build
 
+# One build for every processor: the kernels for AVX-512, AVX2 and plain
+# Go are all in it, and the widest the processor runs is chosen at start.
 build:
-	$(FAST) $(GO) build -o bin/sinter ./cmd/sinter
+	$(GO) build -o bin/sinter ./cmd/sinter
 
 # Render every example patch into out/<name>.
 demo: build
@@ -24,16 +20,28 @@ demo: build
 		./bin/sinter verify out/$$n || exit 1; \
 	done
 
-# Every test in the plain build and, where the toolchain has it, the SIMD
-# build; then a short bounded run of each fuzz target.
-test:
+# Every test, the committed assembly checked against its generator, then a
+# short bounded run of each fuzz target.
+test: tools asm-check
 	$(GO) vet ./...
 	$(GO) test ./...
-ifneq ($(SIMD),)
-	GOEXPERIMENT=simd $(GO) vet ./...
-	GOEXPERIMENT=simd $(GO) test ./...
-endif
 	@$(MAKE) --no-print-directory fuzz FUZZTIME=3s
+
+# The kernel package's encoding test reads the kernels with GNU objdump
+# (binutils), which Go's own disassembler cannot replace: it does not
+# decode AVX-512. Installed from the distribution where it is missing.
+tools:
+	@command -v objdump >/dev/null || { apt-get update -qq && apt-get install -y -qq binutils >/dev/null; }
+
+# Regenerate the kernels' assembly into a temporary folder with its avo
+# generator (synth/kernel/asm) and fail if it differs from what is
+# committed.
+asm-check:
+	@set -e; tmp=$$(mktemp -d); trap 'rm -rf $$tmp' EXIT; \
+	(cd synth/kernel/asm && $(GO) run . -dir $$tmp all); \
+	for f in $$tmp/*; do \
+		cmp -s $$f synth/kernel/$$(basename $$f) || { echo "synth/kernel/$$(basename $$f) differs from its generator's output: run go generate ./synth/kernel"; exit 1; }; \
+	done; echo "assembly matches its generator"
 
 FUZZTIME ?= 60s
 fuzz:
@@ -44,16 +52,17 @@ fuzz:
 		done; \
 	done
 
-# In one run: the oscillator kernels (naive reference, plain, and the
-# vector kernel where the build has it), the encoder and meters; then whole
-# renders of testdata/bench-pad.yaml with --jobs 1 and 2 beside the numpy
-# peer, and the dense set, with wall time and peak memory.
+# In one run: the processor and the kernel chosen; the kernels (naive
+# reference and every set the processor runs), the encoder and meters;
+# then whole renders beside the numpy peer, with wall time and peak memory.
 bench: build
-	$(FAST) $(GO) test -run '^$$' -bench . -benchmem ./synth/...
+	./testdata/bench/processor.sh ./bin/sinter
+	$(GO) test -run '^$$' -bench . -benchmem ./synth/...
 	./testdata/bench/end-to-end.sh ./bin/sinter out/bench
 
+# The same build `go install ./cmd/sinter` makes.
 install:
-	$(FAST) $(GO) install ./cmd/sinter
+	$(GO) install ./cmd/sinter
 
 clean:
 	rm -rf bin out

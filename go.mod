@@ -1,6 +1,6 @@
 module sinter
 
-go 1.26
+go 1.26.0
 
 require (
 	github.com/go-audio/wav v1.1.0
@@ -25,5 +25,6 @@ require (
 	github.com/pb33f/ordered-map/v2 v2.3.1 // indirect
 	go.yaml.in/yaml/v4 v4.0.0-rc.2 // indirect
 	golang.org/x/image v0.30.0 // indirect
+	golang.org/x/sys v0.50.0 // indirect
 	golang.org/x/text v0.28.0 // indirect
 )

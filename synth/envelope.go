@@ -33,10 +33,10 @@ type segment struct {
 	start, end float64
 	from, to   float64
 	curved     bool
-	// back steps the curve's exponential back by ControlFrames samples,
-	// e^(k·ControlFrames/(end − start)); the vector kernel sets it, as only
-	// it steps curves.
-	back float64
+	// step moves the curve's exponential on by ControlFrames samples,
+	// e^(−k·ControlFrames/(end − start)); the lanes' set-up sets it, as
+	// only it steps curves.
+	step float64
 }
 
 // at is the segment's formula at t, also beyond its ends, so a span's end

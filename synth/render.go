@@ -19,15 +19,16 @@ import (
 	"math/bits"
 
 	"sinter/patch"
+	"sinter/synth/kernel"
 )
 
 // BlockFrames is how often, in samples, each oscillator is re-anchored to
 // its exact phase.
-const BlockFrames = 256
+const BlockFrames = kernel.BlockFrames
 
 // ControlFrames is the longest span, in samples, over which an envelope is
 // followed as a straight line between two exact values.
-const ControlFrames = 64
+const ControlFrames = kernel.ControlFrames
 
 // phaseUnit converts a 64-bit phase (2^64 = one cycle) to radians.
 const phaseUnit = 2 * math.Pi / (1 << 64)
@@ -56,6 +57,9 @@ type oscillator struct {
 	// starts from, so each control point costs one evaluation.
 	endPos, endSeg int
 	endLevel       float64
+	// endExp is the curve's exponential at endPos where the lanes' set-up
+	// stepped to it, else 0.
+	endExp float64
 	// corner caches env.nextBreak: the next corner of the envelope after
 	// the samples rendered so far.
 	corner int
@@ -87,8 +91,8 @@ type Renderer struct {
 	live []int
 	// segments holds the envelopes' segments of every oscillator.
 	segments []segment
-	// lanes holds what the vector kernels need, in builds that have them.
-	lanes laneBank
+	// lanes holds what the resonator kernel needs.
+	lanes lanes
 	// Scratch for RenderLooped: a retuned copy of the note, and the
 	// continuation rendered after a crossfade loop.
 	tuned         patch.Note
@@ -545,7 +549,7 @@ func (o *oscillator) span(from, to int) {
 	seg := o.env.segment(float64(from))
 	g0 := o.levelAt(seg, from)
 	g1 := o.env.levelIn(seg, float64(to))
-	o.endPos, o.endSeg, o.endLevel = to, seg, g1
+	o.endPos, o.endSeg, o.endLevel, o.endExp = to, seg, g1, 0
 	o.gain = o.amp * g0
 	o.slope = o.amp * (g1 - g0) / float64(to-from)
 }

@@ -11,6 +11,7 @@ import (
 
 	"sinter/patch"
 	"sinter/synth"
+	"sinter/synth/kernel"
 )
 
 // flat is a constant envelope: no attack, no decay, full sustain, and a
@@ -143,10 +144,15 @@ func checkAccuracy(t *testing.T, c accuracyCase, tol float64) {
 // Amplitude·math.Sin(2π·f·n/fs + phase) (reference: Go's math.Sin). A
 // frequency quantised to 2^-64 cycles/sample, as the package doc's 64-bit
 // phase accumulator allows, would add at most n·2^-65 cycles (< 5e-13 rad
-// at 60 s), which the 1e-12 budget absorbs.
+// at 60 s), which the 1e-12 budget absorbs. Every set of kernels the
+// processor runs is checked.
 func TestOscillatorAccuracy(t *testing.T) {
-	for _, c := range accuracyCases(60) {
-		t.Run(c.name, func(t *testing.T) { checkAccuracy(t, c, 1e-12) })
+	for _, isa := range kernel.Supported() {
+		previous := kernel.Use(isa)
+		for _, c := range accuracyCases(60) {
+			t.Run(isa.String()+"/"+c.name, func(t *testing.T) { checkAccuracy(t, c, 1e-12) })
+		}
+		kernel.Use(previous)
 	}
 }
 
@@ -883,18 +889,25 @@ func benchNote() *patch.Note {
 	return n
 }
 
-// BenchmarkRender measures the kernel this build runs (synth.Kernel).
+// BenchmarkRender measures the renderer on benchNote with each set of
+// kernels the processor runs.
 func BenchmarkRender(b *testing.B) { benchmarkRender(b, benchNote()) }
 
 func benchmarkRender(b *testing.B, n *patch.Note) {
-	dst := make([]float64, synth.Frames(n))
-	var r synth.Renderer
-	r.Render(dst, n)
-	b.ResetTimer()
-	for b.Loop() {
-		r.Render(dst, n)
+	for _, isa := range kernel.Supported() {
+		b.Run(isa.String(), func(b *testing.B) {
+			previous := kernel.Use(isa)
+			defer kernel.Use(previous)
+			dst := make([]float64, synth.Frames(n))
+			var r synth.Renderer
+			r.Render(dst, n)
+			b.ResetTimer()
+			for b.Loop() {
+				r.Render(dst, n)
+			}
+			b.ReportMetric(float64(len(n.Partials)*n.Frames)*float64(b.N)/b.Elapsed().Seconds(), "partial-samples/s")
+		})
 	}
-	b.ReportMetric(float64(len(n.Partials)*n.Frames)*float64(b.N)/b.Elapsed().Seconds(), "partial-samples/s")
 }
 
 // BenchmarkNaiveSine is the same workload as BenchmarkRender done the

@@ -17,7 +17,7 @@ import (
 	"time"
 
 	"sinter/patch"
-	"sinter/synth"
+	"sinter/synth/kernel"
 	"sinter/synth/sampleset"
 )
 
@@ -57,7 +57,9 @@ Usage:
   sinter help
       Print this text.
   sinter --version
-      Print the version and the oscillator kernel this build runs.
+      Print the version, the set of kernels in use and why it was chosen:
+      the widest the processor runs (avx512, avx2 or plain), or the one
+      SINTER_KERNEL names.
 
 LIST is a comma-separated list of keys and ranges: C4,E4 or 60-72 or C4-C5.
 
@@ -69,6 +71,10 @@ func main() {
 }
 
 func run(args []string, stdout, stderr io.Writer) int {
+	if err := kernel.EnvironmentError(); err != nil {
+		fmt.Fprintf(stderr, "sinter: %v\n", err)
+		return exitUsage
+	}
 	if len(args) == 0 {
 		fmt.Fprint(stderr, usage)
 		return exitUsage
@@ -78,7 +84,7 @@ func run(args []string, stdout, stderr io.Writer) int {
 		fmt.Fprint(stdout, usage)
 		return exitOK
 	case "version", "-version", "--version":
-		fmt.Fprintf(stdout, "sinter %s (%s kernel)\n", version, synth.Kernel())
+		fmt.Fprintf(stdout, "sinter %s (%s kernel: %s)\n", version, kernel.Active(), kernel.Reason())
 		return exitOK
 	case "render":
 		return render(args[1:], stdout, stderr)
@@ -249,7 +255,7 @@ func render(args []string, stdout, stderr io.Writer) int {
 		return out.fail(exitFailure, err)
 	}
 	summary := renderSummary{Patch: plan.PatchFile, OutputDir: res.Dir, Files: len(res.Manifest.Files),
-		Levelling: res.Manifest.Levelling, Kernel: synth.Kernel(),
+		Levelling: res.Manifest.Levelling, Kernel: kernel.Active().String(),
 		Work:     work{Computed: res.Stats.PartialSamples, Nominal: res.Stats.Nominal},
 		Rendered: res.Rendered, Kept: res.Reused, Rerendered: res.Rerendered, Warnings: res.Warnings}
 	if out.json {

@@ -21,6 +21,7 @@ import (
 
 	"sinter/patch"
 	"sinter/synth"
+	"sinter/synth/kernel"
 	"sinter/synth/loudness"
 	"sinter/synth/manifest"
 	"sinter/synth/mapping"
@@ -68,15 +69,12 @@ const silentDBFS = -200.0
 // spillPartials is the average number of partials computed per sample at
 // which a measured note is kept on disk for the second pass rather than
 // rendered again. Writing and reading back 8 bytes a sample cost about
-// 4 ns a sample on the machine the figures in the README come from; the
-// vector kernel computes 20 partials in about that time, the plain one 5.
-// Either way the second pass gets the same bits.
+// 4 ns a sample on the machine the figures in the README come from, in
+// which the AVX-512 kernel computes about 50 partials, the AVX2 one 20 and
+// the plain one 5. Either way the second pass gets the same bits.
 var spillPartials = func() int64 {
-	if synth.Kernel() == "plain" {
-		return 5
-	}
-	return 20
-}()
+	return map[kernel.ISA]int64{kernel.Plain: 5, kernel.AVX2: 20, kernel.AVX512: 50}[kernel.Active()]
+}
 
 // Build renders plan into plan.OutputDir.
 //
@@ -251,7 +249,7 @@ func (b *build) twoPasses(ctx context.Context, jobs int, res *Result) error {
 		buf := b.render(w, i)
 		measured[i] = w.measure(buf, &notes[i], truePeak, loudness)
 		b.measured[i] = measuredEntry(measured[i], truePeak, loudness)
-		if !slices.Contains(b.own, i) || b.stats[i].PartialSamples < spillPartials*int64(notes[i].Frames) {
+		if !slices.Contains(b.own, i) || b.stats[i].PartialSamples < spillPartials()*int64(notes[i].Frames) {
 			return nil
 		}
 		return kept.keep(w, i, buf)

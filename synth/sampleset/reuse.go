@@ -11,24 +11,23 @@ import (
 	"path/filepath"
 
 	"sinter/patch"
-	"sinter/synth"
 	"sinter/synth/manifest"
 )
 
 // renderKey is a hash of everything that decides a note's file apart from
-// its levelling gain: the sinter version, the oscillator kernel (the two
-// builds may differ in the last bits), the output format and the note as
+// its levelling gain: the sinter version (every set of kernels gives the
+// same bits, so the one in use is not part of it), the output format and the note as
 // the plan resolved it — key and velocity ranges, partials, envelopes,
 // motion, seeds, loop request. An empty key means the note cannot be
 // keyed and is always rendered.
 func renderKey(plan *patch.Plan, n *patch.Note, version string) string {
 	h := sha256.New()
 	err := json.NewEncoder(h).Encode(struct {
-		Version, Kernel string
-		BitDepth        int
-		Dither          bool
-		Note            *patch.Note
-	}{version, synth.Kernel(), plan.BitDepth, plan.Dither, n})
+		Version  string
+		BitDepth int
+		Dither   bool
+		Note     *patch.Note
+	}{version, plan.BitDepth, plan.Dither, n})
 	if err != nil {
 		return ""
 	}

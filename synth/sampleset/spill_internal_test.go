@@ -37,7 +37,7 @@ partials:
 		threshold  int64
 		rerendered int
 	}{{"spill", 0, 0}, {"rerender", math.MaxInt64, 12}} {
-		spillPartials = c.threshold
+		spillPartials = func() int64 { return c.threshold }
 		p, err := patch.Parse("spill.yaml", src)
 		if err != nil {
 			t.Fatal(err)
