@@ -6,20 +6,23 @@ import (
 	"sinter/synth/kernel"
 )
 
-// The still partials of a block, those with no corner of their envelope
-// inside it, go to kernel.AddResonators, which runs each as eight
-// strided resonators (lane j holds samples j, j+8, … of the block) in the
-// widest instruction set the processor has. The blocks and partials that
-// take that path do not depend on the instruction set, and every set
-// gives the same bits, so a note renders the same on every processor.
-// The rest, blocks with a corner inside and moving partials, take the
-// scalar path in render.go.
+// The partials of a whole block with no corner of their envelope inside
+// it go to the kernels, which run eight lanes of samples (lane j holds
+// samples j, j+8, … of the block) in the widest instruction set the
+// processor has: still partials to kernel.AddResonators, each as eight
+// strided resonators, moving ones to kernel.AddChirps, each cell's exact
+// phase and a sine per sample. Which blocks and partials take that path
+// does not depend on the instruction set, and every set gives the same
+// bits, so a note renders the same on every processor. The rest, blocks
+// with a corner inside and a note's last, short block, take the scalar
+// path in render.go.
 
 // lanes is the resonator kernel's part of a Renderer: one table per
 // oscillator, built once a note, and the jobs of the block at hand.
 type lanes struct {
 	tables []kernel.ResonatorTable
 	jobs   []kernel.ResonatorJob // room for every partial; a block uses the first few
+	chirps []kernel.ChirpJob     // the same for moving partials
 	rest   []int                 // live partials the block leaves to the scalar path
 }
 
@@ -29,8 +32,9 @@ func (l *lanes) prepare(osc []oscillator) {
 	if cap(l.tables) < len(osc) {
 		l.tables = make([]kernel.ResonatorTable, len(osc))
 		l.jobs = make([]kernel.ResonatorJob, len(osc))
+		l.chirps = make([]kernel.ChirpJob, len(osc))
 	}
-	l.tables, l.jobs = l.tables[:len(osc)], l.jobs[:len(osc)]
+	l.tables, l.jobs, l.chirps = l.tables[:len(osc)], l.jobs[:len(osc)], l.chirps[:len(osc)]
 	for i := range osc {
 		t, inc := &l.tables[i], osc[i].inc
 		sin4, _ := sinCos(kernel.Lanes / 2 * inc)
@@ -58,36 +62,58 @@ func (r *Renderer) renderBlock(out []float64, b0, b1 int) {
 	}
 	l := &r.lanes
 	l.rest = l.rest[:0]
-	jobs := l.jobs[:0]
+	jobs, chirps := l.jobs[:0], l.chirps[:0]
 	for _, i := range r.live {
 		o := &r.osc[i]
-		if o.motion != nil || o.nextCorner(b0) < b1 {
+		if o.nextCorner(b0) < b1 {
 			// A corner of the envelope inside the block needs a span that
-			// ends off the control grid; a moving partial changes frequency
-			// every ControlFrames, which the tables cannot follow.
+			// ends off the control grid.
 			l.rest = append(l.rest, i)
 			continue
 		}
-		jobs = jobs[:len(jobs)+1] // lanes has room for every partial
+		// l.jobs and l.chirps have room for every partial.
+		if o.motion != nil {
+			chirps = chirps[:len(chirps)+1]
+			o.chirpParams(&chirps[len(chirps)-1], b0)
+			continue
+		}
+		jobs = jobs[:len(jobs)+1]
 		job := &jobs[len(jobs)-1]
 		job.Table = i
-		o.laneParams(job, b0)
+		job.Sin, job.Cos = o.phaseAt(b0)
+		o.blockLevels(&job.Levels, b0)
 	}
-	kernel.AddResonators((*[BlockFrames]float64)(out[b0:b1]), jobs, l.tables)
+	block := (*[BlockFrames]float64)(out[b0:b1])
+	kernel.AddResonators(block, jobs, l.tables)
+	kernel.AddChirps(block, chirps)
 	r.scalarBlock(out, l.rest, b0, b1)
 }
 
-// laneParams fills job with the partial's phase at b0 and its levels at
-// the block's control points; the block lies in one envelope segment. On
-// a curved segment the curve's exponential steps from one control point
-// to the next by one multiplication, carried on from the block before and
-// taken afresh with math.Exp at every exactEvery-th block, so no level
-// strays more than a few dozen units in the last place from the curve.
-func (o *oscillator) laneParams(job *kernel.ResonatorJob, b0 int) {
-	job.Sin, job.Cos = o.phaseAt(b0)
+// chirpParams fills job with a moving partial's cells over the block at
+// b0, whose spans are its cells, and its levels.
+func (o *oscillator) chirpParams(job *kernel.ChirpJob, b0 int) {
+	for m := range kernel.SpansPerBlock {
+		o.cellFrom(b0 + m*ControlFrames)
+		job.Phase[m], job.Rate[m] = o.cellPhase, o.cellInc
+		// The cell's phase is cellPhase + cellInc·n + diff·n²/128 (see
+		// chirpAt); the kernel takes the whole part of diff/128. What it
+		// leaves out moves no sample by more than 2^−52 turns, and the
+		// next cell starts again from the exact phase.
+		job.Curve[m] = uint64(int64(o.nextInc-o.cellInc) >> 7)
+	}
+	o.blockLevels(&job.Levels, b0)
+}
+
+// blockLevels sets lv to the partial's amplitude × envelope at the
+// block's control points, 0, ControlFrames, …, BlockFrames from b0; the
+// block lies in one envelope segment. On a curved segment the curve's
+// exponential steps from one control point to the next by one
+// multiplication, carried on from the block before and taken afresh with
+// math.Exp at every exactEvery-th block, so no level strays more than a
+// few dozen units in the last place from the curve.
+func (o *oscillator) blockLevels(lv *[kernel.SpansPerBlock + 1]float64, b0 int) {
 	e := &o.env
 	seg := e.segment(float64(b0))
-	lv := &job.Levels
 	lv[0] = o.amp * o.levelAt(seg, b0)
 	end := b0 + BlockFrames
 	if seg >= e.done() || !e.segs[seg].curved {

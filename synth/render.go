@@ -17,6 +17,7 @@ package synth
 import (
 	"math"
 	"math/bits"
+	"slices"
 
 	"sinter/patch"
 	"sinter/synth/kernel"
@@ -67,9 +68,12 @@ type oscillator struct {
 	// ControlFrames samples from the note's start: cellPhase is the exact
 	// phase at the knot cellStart, cellInc the increment there and nextInc
 	// the one at the next knot.
-	motion                      *patch.Motion
-	baseHz                      float64
-	rate                        int
+	motion *patch.Motion
+	// shared holds the motion's pitch ratio at recent knots, computed once
+	// for every partial that moves by it; baseInc is the increment before
+	// the motion.
+	shared                      *motionKnots
+	baseInc                     float64
 	cellStart                   int
 	cellPhase, cellInc, nextInc uint64
 	// anchorPos is the block start whose phase anchorSin and anchorCos
@@ -91,8 +95,10 @@ type Renderer struct {
 	live []int
 	// segments holds the envelopes' segments of every oscillator.
 	segments []segment
-	// lanes holds what the resonator kernel needs.
+	// lanes holds what the resonator and chirp kernels need.
 	lanes lanes
+	// motions holds the knots of each motion in the note being rendered.
+	motions []motionKnots
 	// Scratch for RenderLooped: a retuned copy of the note, and the
 	// continuation rendered after a crossfade loop.
 	tuned         patch.Note
@@ -210,6 +216,7 @@ func stereoPasses(scratch []patch.Partial, n *patch.Note) ([3]stereoPass, []patc
 func (r *Renderer) renderMono(out []float64, n *patch.Note, first int) Stats {
 	rate := float64(n.SampleRate)
 	r.osc = r.osc[:0]
+	r.prepareMotions(n)
 	need := 0
 	for _, p := range n.Partials {
 		need += segmentCount(p.Envelope)
@@ -236,7 +243,7 @@ func (r *Renderer) renderMono(out []float64, n *patch.Note, first int) Stats {
 		o := &r.osc[i]
 		o.turnSin, o.turnCos = sinCos(o.inc * BlockFrames)
 		if m := n.Partials[i].Motion; m != nil {
-			o.motion, o.baseHz, o.rate = m, n.Partials[i].Hz, n.SampleRate
+			o.motion, o.shared, o.baseInc = m, r.knotsOf(m), float64(o.inc)
 			o.cellPhase, o.cellInc, o.nextInc = o.phase0, o.incAt(0), o.incAt(ControlFrames)
 		}
 	}
@@ -321,10 +328,67 @@ func (r *Renderer) single(out []float64, o *oscillator, b0, b1 int) {
 	r.block1(out, o, b0, b1)
 }
 
-// incAt is the per-sample phase increment at sample pos: the partial's
-// frequency moved by its motion at that time.
+// incAt is the per-sample phase increment at knot pos: the partial's
+// frequency moved by its motion at that time. It adds the change to the
+// exact increment, so a motion at 0 cents leaves the frequency exact.
 func (o *oscillator) incAt(pos int) uint64 {
-	return phaseIncrement(o.baseHz*math.Exp2(o.motion.Cents(float64(pos)/float64(o.rate))/1200), o.rate)
+	return o.inc + uint64(int64(math.Round(o.baseInc*o.shared.change(pos))))
+}
+
+// motionKnots is one motion's pitch change at the knots (every
+// ControlFrames samples) a render has reached lately: the partials that
+// share the motion ask for the same knots block after block, so a small
+// ring of them spares all but the first the exponential and the motion's
+// own evaluation.
+type motionKnots struct {
+	motion  *patch.Motion
+	rate    float64
+	knots   [8]int // knot number held in each slot, or −1
+	changes [8]float64
+}
+
+// change returns 2^(cents/1200) − 1 of the motion at knot pos, to full
+// relative precision when the change is small.
+func (m *motionKnots) change(pos int) float64 {
+	knot := pos / ControlFrames
+	slot := knot % len(m.knots)
+	if m.knots[slot] != knot {
+		m.knots[slot], m.changes[slot] = knot, math.Expm1(m.motion.Cents(float64(pos)/m.rate)*(math.Ln2/1200))
+	}
+	return m.changes[slot]
+}
+
+// prepareMotions gathers the distinct motions of n's partials into
+// r.motions, reusing its memory, before any oscillator points into it.
+// Motions are told apart by value: the plan gives each partial a motion
+// of its own, and the partials of a group usually move alike (a drift,
+// whose seed is each partial's own, never does).
+func (r *Renderer) prepareMotions(n *patch.Note) {
+	r.motions = r.motions[:0]
+	for _, p := range n.Partials {
+		if p.Motion != nil && r.knotsOf(p.Motion) == nil {
+			k := motionKnots{motion: p.Motion, rate: float64(n.SampleRate)}
+			for i := range k.knots {
+				k.knots[i] = -1
+			}
+			r.motions = append(r.motions, k)
+		}
+	}
+}
+
+// knotsOf returns the shared knots of a motion equal to m, or nil.
+func (r *Renderer) knotsOf(m *patch.Motion) *motionKnots {
+	for i := range r.motions {
+		if k := r.motions[i].motion; k == m || sameMotion(k, m) {
+			return &r.motions[i]
+		}
+	}
+	return nil
+}
+
+// sameMotion reports whether a and b move a partial alike.
+func sameMotion(a, b *patch.Motion) bool {
+	return a.Vibrato == b.Vibrato && a.Drift == b.Drift && slices.Equal(a.Pitch, b.Pitch)
 }
 
 // blockMoving renders a block of a moving partial. Its frequency is taken

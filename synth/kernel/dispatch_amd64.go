@@ -12,3 +12,14 @@ func addResonators(isa ISA, block *[BlockFrames]float64, jobs []ResonatorJob, ta
 		addResonatorsGo(block, jobs, tables)
 	}
 }
+
+func addChirps(isa ISA, block *[BlockFrames]float64, jobs []ChirpJob) {
+	switch isa {
+	case AVX512:
+		addChirpsAVX512(block, &jobs[0], len(jobs))
+	case AVX2:
+		addChirpsAVX2(block, &jobs[0], len(jobs))
+	default:
+		addChirpsGo(block, jobs)
+	}
+}

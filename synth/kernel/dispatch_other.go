@@ -7,3 +7,7 @@ package kernel
 func addResonators(_ ISA, block *[BlockFrames]float64, jobs []ResonatorJob, tables []ResonatorTable) {
 	addResonatorsGo(block, jobs, tables)
 }
+
+func addChirps(_ ISA, block *[BlockFrames]float64, jobs []ChirpJob) {
+	addChirpsGo(block, jobs)
+}

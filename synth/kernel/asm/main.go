@@ -30,6 +30,7 @@ import (
 
 // families maps a family name to the function that writes its kernels.
 var families = map[string]func(){
+	"chirp":     chirp,
 	"resonator": resonator,
 }
 
