@@ -1,5 +1,7 @@
 # sinter: the two everyday commands are `make demo` and `make test`.
 GO ?= go
+SHELL := /bin/bash
+.SHELLFLAGS := -o pipefail -c
 EXAMPLES := $(wildcard examples/*.yaml)
 
 .PHONY: all build demo test tools asm-check fuzz bench install clean
@@ -57,7 +59,7 @@ fuzz:
 # then whole renders beside the numpy peer, with wall time and peak memory.
 bench: build
 	./testdata/bench/processor.sh ./bin/sinter
-	$(GO) test -run '^$$' -bench . -benchmem ./synth/...
+	$(GO) test -run '^$$' -bench . -benchmem ./synth/... | ./testdata/bench/kernel-targets.sh ./bin/sinter
 	./testdata/bench/end-to-end.sh ./bin/sinter out/bench
 
 # The same build `go install ./cmd/sinter` makes.

@@ -1,20 +1,24 @@
 #!/usr/bin/env python3
-"""A hand-written numpy renderer of testdata/bench-pad.yaml, for `make bench`.
+"""A hand-written numpy renderer of the benchmark patches, for `make bench`.
 
-It renders the same 48 files sinter renders from that patch -- 12 keys from
-C2 to A4 in steps of 3 semitones, velocity layers 80 and 120, 2 round robins
-with random phases, 4 s at 48 kHz, harmonics 1..200 of the 12-TET fundamental
-at amplitude (velocity/127)/n, dropped at 0.45 fs and faded by a raised cosine
-over the 10 % below it, each with the patch's ADSR for its n, one peak gain
-for the set to -1 dBFS, TPDF dither and 24-bit PCM WAV -- so `make bench` can
-time both side by side. It is written the fastest way found for numpy: blocks
+Given the name of a patch it renders the same files sinter renders from it:
+  bench-pad   testdata/bench-pad.yaml: 12 keys from C2 to A4 in steps of 3
+              semitones, velocity layers 80 and 120, 2 round robins with
+              random phases, 4 s (note-off at 3 s)
+  dense-pad   testdata/bench/dense-pad.yaml: 37 keys from C2 to C5, velocity
+              100, one round robin, 6 s (note-off at 5 s)
+-- at 48 kHz, harmonics 1..200 of the 12-TET fundamental at amplitude
+(velocity/127)/n, dropped at 0.45 fs and faded by a raised cosine over the
+10 % below it, each with the patch's ADSR for its n, one peak gain for the
+set to -1 dBFS, TPDF dither and 24-bit PCM WAV -- so `make bench` can time
+both side by side. It is written the fastest way found for numpy: blocks
 of 1024 samples, the phase of every partial as one outer product per block,
 each partial's envelope taken at the block edges and ramped across the block
 by another outer product, and the partials summed down the matrix.
 Everything stays in memory, as a numpy script would do it. Keep it in step
 with the patch.
 
-usage: numpy-peer.py OUTPUT_DIR
+usage: numpy-peer.py PATCH OUTPUT_DIR
 """
 import os
 import sys
@@ -23,11 +27,11 @@ import wave
 import numpy as np
 
 RATE = 48000
-FRAMES = 4 * RATE
-HOLD = 3 * RATE  # note-off sample
-KEYS = range(36, 72, 3)  # C2 .. A4
-VELOCITIES = (80, 120)
-ROUND_ROBINS = 2
+# name: (keys, velocities, round robins, seconds, note-off in seconds)
+PATCHES = {
+    'bench-pad': (range(36, 72, 3), (80, 120), 2, 4, 3),  # C2 .. A4
+    'dense-pad': (range(36, 73), (100,), 1, 6, 5),  # C2 .. C5
+}
 HARMONICS = 200
 LIMIT = 0.45 * RATE
 FADE_FROM = LIMIT * 0.9
@@ -41,7 +45,7 @@ def curve(u):
     return (np.exp(-DEPTH * u) - FLOOR) / (1 - FLOOR)
 
 
-def envelope(t, attack, decay, release):
+def envelope(t, attack, decay, release, hold):
     """Each partial's ADSR (one row per partial) at sample positions t."""
     t = t[None, :]
     attack, decay, release = attack[:, None], decay[:, None], release[:, None]
@@ -53,11 +57,11 @@ def envelope(t, attack, decay, release):
                  SUSTAIN))
     # Every attack and decay is over before the note-off, so the release
     # starts from the sustain level.
-    rel = SUSTAIN * curve(np.clip((t - HOLD) / release, 0, 1))
-    return np.where(t < HOLD, held, np.where(t < HOLD + release, rel, 0.0))
+    rel = SUSTAIN * curve(np.clip((t - hold) / release, 0, 1))
+    return np.where(t < hold, held, np.where(t < hold + release, rel, 0.0))
 
 
-def render(key, velocity, rng):
+def render(key, velocity, frames, hold, rng):
     f0 = 440.0 * 2 ** ((key - 69) / 12)
     n = np.arange(1, HARMONICS + 1)
     hz = f0 * n
@@ -70,10 +74,10 @@ def render(key, velocity, rng):
     w = 2 * np.pi * hz / RATE
     j = np.arange(BLOCK)
     ramp = j / BLOCK
-    out = np.empty(FRAMES)
-    for b0 in range(0, FRAMES, BLOCK):
-        m = min(BLOCK, FRAMES - b0)
-        edges = envelope(np.array([b0, b0 + BLOCK], dtype=float), attack, decay, release) * amp[:, None]
+    out = np.empty(frames)
+    for b0 in range(0, frames, BLOCK):
+        m = min(BLOCK, frames - b0)
+        edges = envelope(np.array([b0, b0 + BLOCK], dtype=float), attack, decay, release, hold) * amp[:, None]
         gain = edges[:, :1] + (edges[:, 1:] - edges[:, :1]) * ramp[None, :m]
         theta = np.outer(w, j[:m] + b0)
         theta += phase[:, None]
@@ -96,14 +100,16 @@ def write24(path, x, rng):
 
 
 def main():
-    out_dir = sys.argv[1]
+    name, out_dir = sys.argv[1], sys.argv[2]
+    keys, velocities, round_robins, seconds, note_off = PATCHES[name]
     os.makedirs(out_dir, exist_ok=True)
     rng = np.random.default_rng(1)
     notes = []
-    for key in KEYS:
-        for vel in VELOCITIES:
-            for rr in range(ROUND_ROBINS):
-                notes.append((f"bench-pad_{key}_v{vel}_rr{rr + 1}.wav", render(key, vel, rng)))
+    for key in keys:
+        for vel in velocities:
+            for rr in range(round_robins):
+                x = render(key, vel, seconds * RATE, note_off * RATE, rng)
+                notes.append((f"{name}_{key}_v{vel}_rr{rr + 1}.wav", x))
     peak = max(np.abs(x).max() for _, x in notes)
     gain = 10 ** (-1 / 20) / peak
     for name, x in notes:
