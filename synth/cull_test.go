@@ -72,3 +72,37 @@ func TestWorkMatchesRender(t *testing.T) {
 		}
 	}
 }
+
+// TestCrestFactor: peak over RMS in dB for signals whose value is known in
+// closed form (common practice): a sine over whole cycles, sampled at
+// its crests, is √2, 3.01 dB;
+// a square wave 0 dB; a pulse of one sample in n is √n; silence reads 0.
+// Lengths off a multiple of four reach the loop's tail.
+func TestCrestFactor(t *testing.T) {
+	sine := func(n, period int) []float64 {
+		x := make([]float64, n)
+		for i := range x {
+			x[i] = 0.5 * math.Cos(2*math.Pi*float64(i)/float64(period)) // a crest on every period
+		}
+		return x
+	}
+	square := []float64{0.7, -0.7, 0.7, -0.7, 0.7, -0.7, 0.7}
+	pulse := make([]float64, 101)
+	pulse[57] = -0.25
+	cases := []struct {
+		name string
+		buf  []float64
+		want float64
+	}{
+		{"sine", sine(4800, 48), 20 * math.Log10(math.Sqrt2)},
+		{"sine, odd length", sine(4803, 3), 20 * math.Log10(math.Sqrt2)},
+		{"square", square, 0},
+		{"pulse", pulse, 20 * math.Log10(math.Sqrt(101))},
+		{"silence", make([]float64, 9), 0},
+	}
+	for _, c := range cases {
+		if got := synth.CrestFactor(c.buf); math.Abs(got-c.want) > 1e-9 {
+			t.Errorf("%s: %.12f dB, want %.12f", c.name, got, c.want)
+		}
+	}
+}

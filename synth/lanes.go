@@ -113,24 +113,40 @@ func (o *oscillator) chirpParams(job *kernel.ChirpJob, b0 int) {
 // few dozen units in the last place from the curve.
 func (o *oscillator) blockLevels(lv *[kernel.SpansPerBlock + 1]float64, b0 int) {
 	e := &o.env
-	seg := e.segment(float64(b0))
+	seg := o.segmentAt(b0)
 	lv[0] = o.amp * o.levelAt(seg, b0)
 	end := b0 + BlockFrames
-	if seg >= e.done() || !e.segs[seg].curved {
-		for m := 1; m <= kernel.SpansPerBlock; m++ {
-			lv[m] = o.amp * e.levelIn(seg, float64(b0+m*ControlFrames))
-		}
-		o.endPos, o.endSeg, o.endLevel, o.endExp = end, seg, e.levelIn(seg, float64(end)), 0
+	// The curve carries on from the block before where that one ended here.
+	exp := o.endExp
+	if o.endPos != b0 || o.endSeg != seg || b0%(exactEvery*BlockFrames) == 0 {
+		exp = 0
+	}
+	o.endPos, o.endSeg, o.endExp = end, seg, 0
+	if seg >= e.done() {
+		*lv = [kernel.SpansPerBlock + 1]float64{}
+		o.endLevel = 0
 		return
 	}
 	s := &e.segs[seg]
-	exp := o.endExp
-	if o.endPos != b0 || o.endSeg != seg || exp == 0 || b0%(exactEvery*BlockFrames) == 0 {
-		exp = math.Exp(-curveDepth * (float64(b0) - s.start) / (s.end - s.start))
+	switch {
+	case s.from == s.to || math.IsInf(s.end, 1): // flat
+		for m := 1; m <= kernel.SpansPerBlock; m++ {
+			lv[m] = o.amp * s.from
+		}
+		o.endLevel = s.from
+	case !s.curved:
+		for m := 1; m <= kernel.SpansPerBlock; m++ {
+			o.endLevel = s.at(float64(b0 + m*ControlFrames))
+			lv[m] = o.amp * o.endLevel
+		}
+	default:
+		if exp == 0 {
+			exp = math.Exp(-curveDepth * (float64(b0) - s.start) / (s.end - s.start))
+		}
+		for m := 1; m <= kernel.SpansPerBlock; m++ {
+			exp *= s.step
+			lv[m] = o.amp * s.fromExp(exp)
+		}
+		o.endLevel, o.endExp = s.fromExp(exp), exp
 	}
-	for m := 1; m <= kernel.SpansPerBlock; m++ {
-		exp *= s.step
-		lv[m] = o.amp * s.fromExp(exp)
-	}
-	o.endPos, o.endSeg, o.endLevel, o.endExp = end, seg, s.fromExp(exp), exp
 }

@@ -64,6 +64,10 @@ type oscillator struct {
 	// corner caches env.nextBreak: the next corner of the envelope after
 	// the samples rendered so far.
 	corner int
+	// segKey is one more than the position whose segment seg holds, so
+	// the zero value holds none: audible and the block's set-up ask for
+	// the same block start in turn.
+	segKey, seg int
 	// A partial with motion has its increment taken at knots every
 	// ControlFrames samples from the note's start: cellPhase is the exact
 	// phase at the knot cellStart, cellInc the increment there and nextInc
@@ -529,12 +533,20 @@ const SilenceLevel = 1e-7
 // block, at the end of that rise.
 func (o *oscillator) audible(b0 int) bool {
 	a := math.Abs(o.amp)
-	seg := o.env.segment(float64(b0))
+	seg := o.segmentAt(b0)
 	level := o.levelAt(seg, b0)
 	if a*level >= SilenceLevel {
 		return true
 	}
 	return a*o.env.peakIn(float64(b0), float64(b0+BlockFrames), level) >= SilenceLevel
+}
+
+// segmentAt returns the number of the envelope segment pos falls in.
+func (o *oscillator) segmentAt(pos int) int {
+	if o.segKey != pos+1 {
+		o.segKey, o.seg = pos+1, o.env.segment(float64(pos))
+	}
+	return o.seg
 }
 
 // levelAt is the envelope at pos by segment seg's formula, taken from the
@@ -610,7 +622,7 @@ func phaseIncrement(hz float64, rate int) uint64 {
 // span sets the oscillator's gain ramp for samples [from, to), which lie in
 // one envelope segment.
 func (o *oscillator) span(from, to int) {
-	seg := o.env.segment(float64(from))
+	seg := o.segmentAt(from)
 	g0 := o.levelAt(seg, from)
 	g1 := o.env.levelIn(seg, float64(to))
 	o.endPos, o.endSeg, o.endLevel, o.endExp = to, seg, g1, 0

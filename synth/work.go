@@ -55,15 +55,34 @@ func workOf(partials []patch.Partial, n *patch.Note) Stats {
 // CrestFactor returns the peak over the RMS of buf, in dB (common
 // practice: a sine is 3.01 dB); 0 for silence.
 func CrestFactor(buf []float64) float64 {
-	peak, sum := 0.0, 0.0
-	for _, v := range buf {
-		peak = max(peak, math.Abs(v))
-		sum += v * v
+	// Four running sums, so that each addition need not wait for the
+	// last, and a comparison for the peak, as in Peak.
+	var s [4]float64
+	peak, n := 0.0, len(buf)
+	for len(buf) >= 4 {
+		q := buf[:4:4]
+		s[0] += q[0] * q[0]
+		s[1] += q[1] * q[1]
+		s[2] += q[2] * q[2]
+		s[3] += q[3] * q[3]
+		for _, v := range q {
+			if a := math.Abs(v); a > peak {
+				peak = a
+			}
+		}
+		buf = buf[4:]
 	}
+	for _, v := range buf {
+		s[0] += v * v
+		if a := math.Abs(v); a > peak {
+			peak = a
+		}
+	}
+	sum := (s[0] + s[1]) + (s[2] + s[3])
 	if sum == 0 {
 		return 0
 	}
-	return 20 * math.Log10(peak/math.Sqrt(sum/float64(len(buf))))
+	return 20 * math.Log10(peak/math.Sqrt(sum/float64(n)))
 }
 
 // timbreSeconds is how much of a note TimbreCrestFactor renders.
