@@ -23,3 +23,70 @@ func addChirps(isa ISA, block *[BlockFrames]float64, jobs []ChirpJob) {
 		addChirpsGo(block, jobs)
 	}
 }
+
+// The assembly forms of PackPCM and PackFloat32 take whole steps of this
+// many samples, two vectors' worth; the plain form does the rest.
+const (
+	pcmStepAVX512 = 16
+	pcmStepAVX2   = 8
+)
+
+// vectorSamples is how many of n samples the assembly forms of isa take.
+func vectorSamples(isa ISA, n int) int {
+	switch isa {
+	case AVX512:
+		return n / pcmStepAVX512 * pcmStepAVX512
+	case AVX2:
+		return n / pcmStepAVX2 * pcmStepAVX2
+	}
+	return 0
+}
+
+func packPCM(isa ISA, dst []byte, src []float64, bits int, dither bool, state uint64) {
+	n := vectorSamples(isa, len(src))
+	if n > 0 {
+		d, s := &dst[0], &src[0]
+		switch isa {
+		case AVX512:
+			switch {
+			case bits == 16 && dither:
+				packPCM16DitherAVX512(d, s, n, state)
+			case bits == 16:
+				packPCM16AVX512(d, s, n)
+			case dither:
+				packPCM24DitherAVX512(d, s, n, state)
+			default:
+				packPCM24AVX512(d, s, n)
+			}
+		case AVX2:
+			switch {
+			case bits == 16 && dither:
+				packPCM16DitherAVX2(d, s, n, state)
+			case bits == 16:
+				packPCM16AVX2(d, s, n)
+			case dither:
+				packPCM24DitherAVX2(d, s, n, state)
+			default:
+				packPCM24AVX2(d, s, n)
+			}
+		}
+	}
+	if n < len(src) {
+		packPCMGo(dst[n*bits/8:], src[n:], bits, dither, state+uint64(n)*ditherGamma)
+	}
+}
+
+func packFloat32(isa ISA, dst []byte, src []float64) {
+	n := vectorSamples(isa, len(src))
+	if n > 0 {
+		switch isa {
+		case AVX512:
+			packFloat32AVX512(&dst[0], &src[0], n)
+		case AVX2:
+			packFloat32AVX2(&dst[0], &src[0], n)
+		}
+	}
+	if n < len(src) {
+		packFloat32Go(dst[4*n:], src[n:])
+	}
+}

@@ -11,3 +11,11 @@ func addResonators(_ ISA, block *[BlockFrames]float64, jobs []ResonatorJob, tabl
 func addChirps(_ ISA, block *[BlockFrames]float64, jobs []ChirpJob) {
 	addChirpsGo(block, jobs)
 }
+
+func packPCM(_ ISA, dst []byte, src []float64, bits int, dither bool, state uint64) {
+	packPCMGo(dst, src, bits, dither, state)
+}
+
+func packFloat32(_ ISA, dst []byte, src []float64) {
+	packFloat32Go(dst, src)
+}

@@ -47,7 +47,12 @@ func TestAssemblyEncodings(t *testing.T) {
 		t.Fatalf("objdump: %v", err)
 	}
 	functions := disassembly(string(out))
-	for _, name := range []string{"addResonatorsAVX2", "addResonatorsAVX512", "addChirpsAVX2", "addChirpsAVX512"} {
+	for _, name := range []string{
+		"addResonatorsAVX2", "addResonatorsAVX512", "addChirpsAVX2", "addChirpsAVX512",
+		"packPCM16AVX2", "packPCM16AVX512", "packPCM16DitherAVX2", "packPCM16DitherAVX512",
+		"packPCM24AVX2", "packPCM24AVX512", "packPCM24DitherAVX2", "packPCM24DitherAVX512",
+		"packFloat32AVX2", "packFloat32AVX512",
+	} {
 		if functions[name] == nil {
 			t.Errorf("%s is not in the disassembly", name)
 		}

@@ -11,13 +11,14 @@
 // never changes set in the middle of a render.
 //
 // The AVX2 and AVX-512 forms of a kernel do the same arithmetic in the
-// same order on every lane, so they give the same bits: the AVX2 form
-// runs each 512-bit vector of the other as two 256-bit halves. The plain
-// forms may differ from them in the last bits (the callers' tests bound
-// by how much). Each assembly function ends with VZEROUPPER and holds
-// only VEX- or EVEX-encoded vector instructions, because a legacy SSE
-// instruction after a wide one costs a state transition on Intel
-// processors; a test disassembles them to keep it so.
+// same order on every lane, so they give the same bits. The plain form
+// does each lane's arithmetic too, with math.FMA where the assembly
+// fuses a multiply and an add, so it gives the same bits as well; each
+// kernel's tests hold every form to that. Each assembly function ends
+// with VZEROUPPER and holds only VEX- or EVEX-encoded vector
+// instructions, because a legacy SSE instruction after a wide one costs
+// a state transition on Intel processors; a test disassembles them to
+// keep it so.
 package kernel
 
 //go:generate sh -c "cd asm && go run . all"

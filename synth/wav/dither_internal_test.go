@@ -8,6 +8,8 @@ import (
 
 	gowav "github.com/go-audio/wav"
 	"gonum.org/v1/gonum/mathext/prng"
+
+	"sinter/synth/kernel"
 )
 
 // TestTPDFIsSplitMix64 checks the generator against gonum's SplitMix64, an
@@ -109,10 +111,10 @@ func TestTPDFHistogram(t *testing.T) {
 	t.Logf("largest bin deviation from the triangle: %.2f %%", 100*worst)
 }
 
-// TestDitherAcrossBlocks: Encode adds the dither block by block, stepping
-// the generator state; every code in a file several blocks long must still
-// be the rounding of x · 2^(bits−1) + tpdf(seed, i) for its interleaved
-// index i.
+// TestDitherAcrossBlocks: Encode adds the dither block by block, with
+// every set of kernels the processor runs; every code in a file several
+// blocks long must still be the rounding of x · 2^(bits−1) + tpdf(seed, i)
+// for its interleaved index i.
 func TestDitherAcrossBlocks(t *testing.T) {
 	const seed = 42
 	n := 3*packSamples + packSamples/2 + 6 // whole stereo frames, a partial last block
@@ -121,22 +123,27 @@ func TestDitherAcrossBlocks(t *testing.T) {
 	for i := range samples {
 		samples[i] = 1.8*rng.Float64() - 0.9
 	}
-	for _, bits := range []int{16, 24} {
-		var buf bytes.Buffer
-		opts := Options{SampleRate: 48000, BitDepth: bits, Channels: 2, Dither: true, DitherSeed: seed}
-		if err := Encode(&buf, samples, opts); err != nil {
-			t.Fatal(err)
-		}
-		// go-audio/wav's decoder as independent reader.
-		pcm, err := gowav.NewDecoder(bytes.NewReader(buf.Bytes())).FullPCMBuffer()
-		if err != nil {
-			t.Fatal(err)
-		}
-		scale := math.Ldexp(1, bits-1)
-		for i, x := range samples {
-			want := int(max(-scale, min(scale-1, math.RoundToEven(float64(x*scale)+tpdf(seed, uint64(i))))))
-			if got := pcm.Data[i]; got != want {
-				t.Fatalf("%d-bit sample %d (block %d): code %d, want %d", bits, i, i/packSamples, got, want)
+	for _, isa := range kernel.Supported() {
+		for _, bits := range []int{16, 24} {
+			var buf bytes.Buffer
+			opts := Options{SampleRate: 48000, BitDepth: bits, Channels: 2, Dither: true, DitherSeed: seed}
+			previous := kernel.Use(isa)
+			err := Encode(&buf, samples, opts)
+			kernel.Use(previous)
+			if err != nil {
+				t.Fatal(err)
+			}
+			// go-audio/wav's decoder as independent reader.
+			pcm, err := gowav.NewDecoder(bytes.NewReader(buf.Bytes())).FullPCMBuffer()
+			if err != nil {
+				t.Fatal(err)
+			}
+			scale := math.Ldexp(1, bits-1)
+			for i, x := range samples {
+				want := int(max(-scale, min(scale-1, math.RoundToEven(float64(x*scale)+tpdf(seed, uint64(i))))))
+				if got := pcm.Data[i]; got != want {
+					t.Fatalf("%s, %d-bit sample %d (block %d): code %d, want %d", isa, bits, i, i/packSamples, got, want)
+				}
 			}
 		}
 	}

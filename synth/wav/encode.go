@@ -12,8 +12,9 @@
 // and −1.0 and below as the smallest. NaN encodes as 0. With Options.Dither,
 // triangular noise d from a seeded counter-based generator is added first:
 // the code is round-half-to-even(x · 2^(bits−1) + d), the sum rounded to
-// float64 before the rounding to an integer. Float samples are converted
-// with float32(x) and not clamped.
+// float64 before the rounding to an integer; d is the sample's output of
+// SplitMix64, as sinter/synth/kernel.PackPCM, which does the work, spells
+// out. Float samples are converted with float32(x) and not clamped.
 package wav
 
 import (
@@ -22,6 +23,8 @@ import (
 	"io"
 	"math"
 	"sync"
+
+	"sinter/synth/kernel"
 )
 
 // Options describes the file to write.
@@ -330,176 +333,25 @@ const packSamples = 8192 * 2
 // the widest format, so concurrent Encode calls share no buffer.
 var packBuffers = sync.Pool{New: func() any { return new([packSamples * 4]byte) }}
 
-// codeBuffers holds the integer codes of a block of samples between
-// quantising and packing.
-var codeBuffers = sync.Pool{New: func() any { return new([packSamples]int32) }}
-
-// writeSamples packs samples in blocks of packSamples and writes each block.
+// writeSamples packs samples in blocks of packSamples and writes each
+// block. The kernel package quantises and packs in one pass, with the
+// widest instruction set the processor has; every set gives the same
+// bytes. The dither counts from each sample's index in the whole file.
 func writeSamples(w io.Writer, samples []float64, opts Options) error {
 	buf := packBuffers.Get().(*[packSamples * 4]byte)
 	defer packBuffers.Put(buf)
-	var codes *[packSamples]int32
-	if opts.BitDepth != 32 {
-		codes = codeBuffers.Get().(*[packSamples]int32)
-		defer codeBuffers.Put(codes)
-	}
+	pcm := kernel.PCM{Bits: opts.BitDepth, Dither: opts.Dither, Seed: opts.DitherSeed}
 	for first := 0; first < len(samples); first += packSamples {
 		block := samples[first:min(len(samples), first+packSamples)]
 		var packed []byte
-		switch opts.BitDepth {
-		case 16:
-			packed = pack16(buf[:], quantizeBlock(codes[:len(block)], block, 16, opts.Dither, opts.DitherSeed, uint64(first)))
-		case 24:
-			packed = pack24(buf[:], quantizeBlock(codes[:len(block)], block, 24, opts.Dither, opts.DitherSeed, uint64(first)))
-		case 32:
-			packed = packFloat(buf[:], block)
+		if opts.BitDepth == 32 {
+			packed = kernel.PackFloat32(buf[:], block)
+		} else {
+			packed = kernel.PackPCM(buf[:], block, pcm, uint64(first))
 		}
 		if _, err := w.Write(packed); err != nil {
 			return err
 		}
 	}
 	return nil
-}
-
-// quantizeScalar stores in dst the integer code of each sample of src for
-// a format of bits bits, with TPDF dither tpdf(seed, first+i) LSB added
-// when dither is set; first is the index of src[0] in the whole file, so
-// the noise does not depend on how the samples are split into blocks. It
-// returns dst. encode_simd.go has a vector twin that gives the same codes.
-//
-// The noise is added at full scale, x + d·2^−(bits−1), and quantize then
-// scales by 2^(bits−1): scaling by a power of two is exact and rounding
-// commutes with it, so the code is the rounding of the float64
-// x · 2^(bits−1) + d; values so large that the scaling overflows clip
-// either way. The product d·2^−(bits−1) is exact too, so a compiler fusing
-// the multiply and the add cannot change the result.
-func quantizeScalar(dst []int32, src []float64, bits int, dither bool, seed, first uint64) []int32 {
-	scale := math.Ldexp(1, bits-1)
-	dst = dst[:len(src)]
-	if !dither {
-		for i, x := range src {
-			dst[i] = quantize(x, scale)
-		}
-		return dst
-	}
-	lsb := math.Ldexp(1, 1-bits)
-	// Stepping the SplitMix64 state instead of computing it from the index
-	// as tpdf does saves a multiplication per sample, which made this loop
-	// about a quarter faster.
-	state := seed + first*splitMixGamma
-	for i, x := range src {
-		state += splitMixGamma
-		dst[i] = quantize(x+triangular(splitMix64(state))*lsb, scale)
-	}
-	return dst
-}
-
-// SplitMix64 constants: the increment γ is the odd integer nearest 2^64
-// divided by the golden ratio; the multipliers are those of the reference
-// splitmix64.c (prng.di.unimi.it).
-const (
-	splitMixGamma = 0x9E3779B97F4A7C15
-	splitMixMul1  = 0xBF58476D1CE4E5B9
-	splitMixMul2  = 0x94D049BB133111EB
-)
-
-// tpdf returns the dither for interleaved sample index i, in LSB: a value
-// in [−1, 1) with a triangular density, the sum of two independent uniform
-// values in [−½, ½).
-//
-// The generator is counter-based so the noise is a function of (seed, i)
-// alone, whatever the block size, and is written out here so that no
-// library change can alter the bytes of a file. It is output i (counting
-// from 0) of SplitMix64 (Steele, Lea & Flood, "Fast splittable
-// pseudorandom number generators", OOPSLA 2014) seeded with seed, whose
-// state before that output is seed + (i+1)·γ:
-//
-//	z = seed + (i+1)·0x9E3779B97F4A7C15 (mod 2^64)
-//	z = (z ^ z>>30) · 0xBF58476D1CE4E5B9
-//	z = (z ^ z>>27) · 0x94D049BB133111EB
-//	z = z ^ z>>31
-//	d = (z>>32)/2^32 − ½ + (z & 0xFFFFFFFF)/2^32 − ½
-//
-// quantizeScalar steps the state instead; tpdf is the per-index definition that
-// the tests hold it to.
-func tpdf(seed, i uint64) float64 {
-	return triangular(splitMix64(seed + (i+1)*splitMixGamma))
-}
-
-// splitMix64 is the SplitMix64 output function of state z.
-func splitMix64(z uint64) uint64 {
-	z = (z ^ z>>30) * splitMixMul1
-	z = (z ^ z>>27) * splitMixMul2
-	return z ^ z>>31
-}
-
-// triangular sums the uniforms h/2^32 − ½ and l/2^32 − ½ made of the high
-// and low halves h and l of z as (h + l)/2^32 − 1. h + l < 2^33 fits a
-// float64 mantissa, so the result is exact.
-func triangular(z uint64) float64 {
-	return float64(z>>32+uint64(uint32(z)))*0x1p-32 - 1
-}
-
-func pack16(dst []byte, codes []int32) []byte {
-	dst = dst[:2*len(codes)]
-	for i, v := range codes {
-		binary.LittleEndian.PutUint16(dst[2*i:], uint16(v))
-	}
-	return dst
-}
-
-func pack24(dst []byte, codes []int32) []byte {
-	dst = dst[:3*len(codes)]
-	// Four 3-byte samples fill exactly three 32-bit words, so whole groups
-	// are stored a word at a time; the last few samples go byte by byte.
-	groups := len(codes) / 4
-	for g := range groups {
-		c4 := codes[4*g : 4*g+4 : 4*g+4]
-		a, b, c, d := uint32(c4[0]), uint32(c4[1]), uint32(c4[2]), uint32(c4[3])
-		out := dst[12*g : 12*g+12 : 12*g+12]
-		binary.LittleEndian.PutUint32(out[0:], a&0xFFFFFF|b<<24)
-		binary.LittleEndian.PutUint32(out[4:], b>>8&0xFFFF|c<<16)
-		binary.LittleEndian.PutUint32(out[8:], c>>16&0xFF|d<<8)
-	}
-	for i := 4 * groups; i < len(codes); i++ {
-		v := codes[i]
-		dst[3*i], dst[3*i+1], dst[3*i+2] = byte(v), byte(v>>8), byte(v>>16)
-	}
-	return dst
-}
-
-func packFloat(dst []byte, src []float64) []byte {
-	dst = dst[:4*len(src)]
-	for i, x := range src {
-		binary.LittleEndian.PutUint32(dst[4*i:], math.Float32bits(float32(x)))
-	}
-	return dst
-}
-
-// roundMagic is 1.5·2⁵²: adding it to any |y| < 2⁵¹ lands in [2⁵², 2⁵³),
-// where float64 holds only integers, so the addition itself rounds y to an
-// integer, half to even, as IEEE 754 arithmetic does by default.
-const roundMagic = 3 << 51
-
-// quantize maps x (full scale ±1) to the integer code of a format whose
-// smallest code is −scale, a power of two. Half to even is unbiased, and the
-// roundMagic addition does it without the CPU-feature check that
-// math.RoundToEven needs on baseline amd64, which made it the slowest part
-// of packing. Larger |y| and infinities pass through roughly unchanged and
-// clip; clamping comes before the conversion because Go leaves out-of-range
-// float-to-int conversions implementation-defined. NaN fails every
-// comparison and becomes 0.
-func quantize(x, scale float64) int32 {
-	// The conversion rounds the product, so it cannot be fused with the
-	// addition; the product of a power of two is exact anyway.
-	r := (float64(x*scale) + roundMagic) - roundMagic
-	switch {
-	case r >= scale:
-		return int32(scale) - 1
-	case r <= -scale:
-		return -int32(scale)
-	case r == r:
-		return int32(r)
-	}
-	return 0
 }

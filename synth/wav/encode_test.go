@@ -15,6 +15,7 @@ import (
 
 	gowav "github.com/go-audio/wav"
 
+	"sinter/synth/kernel"
 	"sinter/synth/wav"
 )
 
@@ -60,67 +61,79 @@ func sampler(loops ...wav.Loop) *wav.Sampler {
 
 var instrument = &wav.Instrument{UnshiftedNote: 57, FineTune: -12, Gain: -6, LowNote: 55, HighNote: 59, LowVelocity: 1, HighVelocity: 64}
 
+// TestRoundTripGoAudio writes files with every set of kernels the
+// processor runs and reads them back with go-audio/wav.
 func TestRoundTripGoAudio(t *testing.T) {
-	for _, bits := range []int{16, 24, 32} {
-		for _, channels := range []int{1, 2} {
-			for _, frames := range []int{1000, 1001} {
-				t.Run(fmt.Sprintf("%dbit/%dch/%dframes", bits, channels, frames), func(t *testing.T) {
-					samples := testSamples(frames * channels)
-					loops := []wav.Loop{{Start: 100, End: 899}, {Start: 0, End: uint32(frames - 1)}}
-					opts := wav.Options{SampleRate: 48000, BitDepth: bits, Channels: channels, Sampler: sampler(loops...), Instrument: instrument}
-					data := encode(t, samples, opts)
-
-					// go-audio/wav's decoder as independent reader.
-					d := gowav.NewDecoder(bytes.NewReader(data))
-					buf, err := d.FullPCMBuffer()
-					if err != nil {
-						t.Fatalf("go-audio FullPCMBuffer: %v", err)
-					}
-					if int(d.SampleRate) != 48000 || int(d.NumChans) != channels || int(d.BitDepth) != bits {
-						t.Fatalf("go-audio read %d Hz, %d channels, %d bits", d.SampleRate, d.NumChans, d.BitDepth)
-					}
-					// go-audio counts an odd data chunk's pad byte as an
-					// extra sample (libraries sheet §1), so compare only
-					// the samples that were encoded.
-					if len(buf.Data) < len(samples) {
-						t.Fatalf("go-audio read %d samples, want at least %d", len(buf.Data), len(samples))
-					}
-					for i, x := range samples {
-						got := buf.Data[i]
-						if bits == 32 {
-							// go-audio returns float32 samples as raw bit patterns.
-							if f := math.Float32frombits(uint32(got)); f != float32(x) {
-								t.Fatalf("sample %d = %v, want %v", i, f, float32(x))
-							}
-						} else if want := quantized(x, bits); got != want {
-							t.Fatalf("sample %d (%v) = %d, want %d", i, x, got, want)
-						}
-					}
-
-					md := gowav.NewDecoder(bytes.NewReader(data))
-					md.ReadMetadata()
-					if err := md.Err(); err != nil {
-						t.Fatalf("go-audio ReadMetadata: %v", err)
-					}
-					if md.Metadata == nil || md.Metadata.SamplerInfo == nil {
-						t.Fatal("go-audio found no smpl chunk")
-					}
-					si := md.Metadata.SamplerInfo
-					// Sample period from the standards sheet: 48 kHz -> 20833 ns.
-					if si.MIDIUnityNote != 57 || si.MIDIPitchFraction != 0x80000000 || si.SamplePeriod != 20833 {
-						t.Errorf("smpl unity %d, fraction %#x, period %d; want 57, 0x80000000, 20833",
-							si.MIDIUnityNote, si.MIDIPitchFraction, si.SamplePeriod)
-					}
-					if len(si.Loops) != len(loops) {
-						t.Fatalf("go-audio read %d loops, want %d", len(si.Loops), len(loops))
-					}
-					for i, l := range si.Loops {
-						if l.Start != loops[i].Start || l.End != loops[i].End || l.Type != 0 || l.PlayCount != 0 {
-							t.Errorf("loop %d = %+v, want forward endless %d..%d", i, *l, loops[i].Start, loops[i].End)
-						}
-					}
-				})
+	for _, isa := range kernel.Supported() {
+		for _, bits := range []int{16, 24, 32} {
+			for _, channels := range []int{1, 2} {
+				for _, frames := range []int{1000, 1001} {
+					t.Run(fmt.Sprintf("%s/%dbit/%dch/%dframes", isa, bits, channels, frames), func(t *testing.T) {
+						roundTripGoAudio(t, isa, bits, channels, frames)
+					})
+				}
 			}
+		}
+	}
+}
+
+// roundTripGoAudio encodes one file with isa and checks what go-audio/wav
+// reads back: the format, every sample and the sampler metadata.
+func roundTripGoAudio(t *testing.T, isa kernel.ISA, bits, channels, frames int) {
+	samples := testSamples(frames * channels)
+	loops := []wav.Loop{{Start: 100, End: 899}, {Start: 0, End: uint32(frames - 1)}}
+	opts := wav.Options{SampleRate: 48000, BitDepth: bits, Channels: channels, Sampler: sampler(loops...), Instrument: instrument}
+	previous := kernel.Use(isa)
+	data := encode(t, samples, opts)
+	kernel.Use(previous)
+
+	// go-audio/wav's decoder as independent reader.
+	d := gowav.NewDecoder(bytes.NewReader(data))
+	buf, err := d.FullPCMBuffer()
+	if err != nil {
+		t.Fatalf("go-audio FullPCMBuffer: %v", err)
+	}
+	if int(d.SampleRate) != 48000 || int(d.NumChans) != channels || int(d.BitDepth) != bits {
+		t.Fatalf("go-audio read %d Hz, %d channels, %d bits", d.SampleRate, d.NumChans, d.BitDepth)
+	}
+	// go-audio counts an odd data chunk's pad byte as an
+	// extra sample (libraries sheet §1), so compare only
+	// the samples that were encoded.
+	if len(buf.Data) < len(samples) {
+		t.Fatalf("go-audio read %d samples, want at least %d", len(buf.Data), len(samples))
+	}
+	for i, x := range samples {
+		got := buf.Data[i]
+		if bits == 32 {
+			// go-audio returns float32 samples as raw bit patterns.
+			if f := math.Float32frombits(uint32(got)); f != float32(x) {
+				t.Fatalf("sample %d = %v, want %v", i, f, float32(x))
+			}
+		} else if want := quantized(x, bits); got != want {
+			t.Fatalf("sample %d (%v) = %d, want %d", i, x, got, want)
+		}
+	}
+
+	md := gowav.NewDecoder(bytes.NewReader(data))
+	md.ReadMetadata()
+	if err := md.Err(); err != nil {
+		t.Fatalf("go-audio ReadMetadata: %v", err)
+	}
+	if md.Metadata == nil || md.Metadata.SamplerInfo == nil {
+		t.Fatal("go-audio found no smpl chunk")
+	}
+	si := md.Metadata.SamplerInfo
+	// Sample period from the standards sheet: 48 kHz -> 20833 ns.
+	if si.MIDIUnityNote != 57 || si.MIDIPitchFraction != 0x80000000 || si.SamplePeriod != 20833 {
+		t.Errorf("smpl unity %d, fraction %#x, period %d; want 57, 0x80000000, 20833",
+			si.MIDIUnityNote, si.MIDIPitchFraction, si.SamplePeriod)
+	}
+	if len(si.Loops) != len(loops) {
+		t.Fatalf("go-audio read %d loops, want %d", len(si.Loops), len(loops))
+	}
+	for i, l := range si.Loops {
+		if l.Start != loops[i].Start || l.End != loops[i].End || l.Type != 0 || l.PlayCount != 0 {
+			t.Errorf("loop %d = %+v, want forward endless %d..%d", i, *l, loops[i].Start, loops[i].End)
 		}
 	}
 }
@@ -280,7 +293,7 @@ func TestPadBytes(t *testing.T) {
 }
 
 // TestQuantization reads codes back with go-audio/wav's decoder as an
-// independent reader.
+// independent reader, for every set of kernels the processor runs.
 func TestQuantization(t *testing.T) {
 	const lsb16 = 1.0 / 32768
 	for _, tc := range []struct {
@@ -315,13 +328,21 @@ func TestQuantization(t *testing.T) {
 		{"near 2^51 LSBs clips", 16, 0x1p51 / 32768, 32767},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
-			data := encode(t, []float64{tc.x}, wav.Options{SampleRate: 8000, BitDepth: tc.bits, Channels: 1})
-			buf, err := gowav.NewDecoder(bytes.NewReader(data)).FullPCMBuffer()
-			if err != nil {
-				t.Fatal(err)
+			// A block of 37 of the value runs it through every vector
+			// lane and the plain tail of every set of kernels.
+			samples := make([]float64, 37)
+			for i := range samples {
+				samples[i] = tc.x
 			}
-			if got := buf.Data[0]; got != tc.want {
-				t.Errorf("%v encodes as %d, want %d", tc.x, got, tc.want)
+			for _, isa := range kernel.Supported() {
+				previous := kernel.Use(isa)
+				data := encode(t, samples, wav.Options{SampleRate: 8000, BitDepth: tc.bits, Channels: 1})
+				kernel.Use(previous)
+				for i, got := range decodeCodes(t, data, len(samples)) {
+					if got != tc.want {
+						t.Fatalf("%s: %v encodes as %d in sample %d, want %d", isa, tc.x, got, i, tc.want)
+					}
+				}
 			}
 		})
 	}
@@ -457,37 +478,43 @@ func TestEncodeConcurrent(t *testing.T) {
 	wg.Wait()
 }
 
-func BenchmarkEncode24(b *testing.B) {
+// benchmarkEncode encodes 10 s of 48 kHz stereo with every set of kernels
+// the processor runs, for three signals: a sine at half of full scale, the
+// same sine at −100 dBFS (a tail fading out) and exact zeros (silence),
+// and reports the time per sample.
+func benchmarkEncode(b *testing.B, bits int, dither bool) {
 	const rate, seconds = 48000, 10
-	samples := make([]float64, 2*rate*seconds)
-	for i := range samples {
-		samples[i] = 0.5 * math.Sin(2*math.Pi*440*float64(i/2)/rate)
-	}
-	opts := wav.Options{SampleRate: rate, BitDepth: 24, Channels: 2, Sampler: sampler(wav.Loop{Start: 0, End: rate - 1})}
-	b.SetBytes(wav.Size(len(samples)/2, opts))
-	for b.Loop() {
-		if err := wav.Encode(io.Discard, samples, opts); err != nil {
-			b.Fatal(err)
+	for _, isa := range kernel.Supported() {
+		for _, signal := range []struct {
+			name string
+			peak float64
+		}{{"sine", 0.5}, {"-100dBFS", 1e-5}, {"zeros", 0}} {
+			b.Run(isa.String()+"/"+signal.name, func(b *testing.B) {
+				samples := make([]float64, 2*rate*seconds)
+				for i := range samples {
+					samples[i] = signal.peak * math.Sin(2*math.Pi*440*float64(i/2)/rate)
+				}
+				opts := wav.Options{SampleRate: rate, BitDepth: bits, Channels: 2, Sampler: sampler(wav.Loop{Start: 0, End: rate - 1}),
+					Dither: dither, DitherSeed: 1}
+				previous := kernel.Use(isa)
+				defer kernel.Use(previous)
+				b.SetBytes(wav.Size(len(samples)/2, opts))
+				for b.Loop() {
+					if err := wav.Encode(io.Discard, samples, opts); err != nil {
+						b.Fatal(err)
+					}
+				}
+				b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/float64(len(samples)), "ns/sample")
+			})
 		}
 	}
-	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/float64(len(samples)), "ns/sample")
 }
+
+func BenchmarkEncode16(b *testing.B)       { benchmarkEncode(b, 16, false) }
+func BenchmarkEncode16Dither(b *testing.B) { benchmarkEncode(b, 16, true) }
+func BenchmarkEncode24(b *testing.B)       { benchmarkEncode(b, 24, false) }
 
 // BenchmarkEncode24Dither is BenchmarkEncode24 with TPDF dither, to keep the
 // dithered path within about twice the plain one.
-func BenchmarkEncode24Dither(b *testing.B) {
-	const rate, seconds = 48000, 10
-	samples := make([]float64, 2*rate*seconds)
-	for i := range samples {
-		samples[i] = 0.5 * math.Sin(2*math.Pi*440*float64(i/2)/rate)
-	}
-	opts := wav.Options{SampleRate: rate, BitDepth: 24, Channels: 2, Sampler: sampler(wav.Loop{Start: 0, End: rate - 1}),
-		Dither: true, DitherSeed: 1}
-	b.SetBytes(wav.Size(len(samples)/2, opts))
-	for b.Loop() {
-		if err := wav.Encode(io.Discard, samples, opts); err != nil {
-			b.Fatal(err)
-		}
-	}
-	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/float64(len(samples)), "ns/sample")
-}
+func BenchmarkEncode24Dither(b *testing.B) { benchmarkEncode(b, 24, true) }
+func BenchmarkEncodeFloat(b *testing.B)    { benchmarkEncode(b, 32, false) }

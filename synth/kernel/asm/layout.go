@@ -10,9 +10,11 @@ import (
 
 // kernelPackage is the kernel package as go/types sees it: its Go files
 // only, so the layouts below can be read even while its assembly is out
-// of date.
+// of date, and type-checked from source (NeedSyntax), because the
+// compiler's export data leaves out the unexported constants the
+// kernels read.
 var kernelPackage = func() *types.Package {
-	pkgs, err := packages.Load(&packages.Config{Mode: packages.NeedTypes | packages.NeedTypesSizes}, "sinter/synth/kernel")
+	pkgs, err := packages.Load(&packages.Config{Mode: packages.NeedTypes | packages.NeedTypesSizes | packages.NeedSyntax}, "sinter/synth/kernel")
 	if err != nil {
 		panic(err)
 	}
@@ -78,3 +80,28 @@ var (
 	controlFrames = intConst("ControlFrames")
 	spansPerBlock = intConst("SpansPerBlock")
 )
+
+// uintConst is the value of an unsigned integer constant of the kernel
+// package, which may not fit an int.
+func uintConst(name string) uint64 {
+	c, ok := kernelPackage.Scope().Lookup(name).(*types.Const)
+	if !ok {
+		panic("no constant " + name + " in the kernel package")
+	}
+	v, exact := constant.Uint64Val(c.Val())
+	if !exact {
+		panic("constant " + name + " is not an unsigned integer")
+	}
+	return v
+}
+
+// floatConst is the value of a floating-point constant of the kernel
+// package, rounded to float64.
+func floatConst(name string) float64 {
+	c, ok := kernelPackage.Scope().Lookup(name).(*types.Const)
+	if !ok {
+		panic("no constant " + name + " in the kernel package")
+	}
+	v, _ := constant.Float64Val(c.Val())
+	return v
+}

@@ -2,6 +2,7 @@
 // (github.com/mmcloughlin/avo):
 //
 //	go run . resonator    # one family: ../resonator_amd64.s and ../resonator_stub_amd64.go
+//	go run . quantize     # PackPCM and PackFloat32: ../quantize_amd64.s and ../quantize_stub_amd64.go
 //	go run . all          # every family
 //
 // The kernel package's go:generate line runs it for every family; the
@@ -10,9 +11,10 @@
 // package's types for their layouts, so the package must compile: if a
 // broken .s file stops it, empty that file and run again.
 //
-// Every family comes in an AVX2 and an AVX-512 form. The AVX2 form does
-// to each half of a 512-bit vector what the AVX-512 form does to the
-// whole, so both give the same bits. Only VEX and EVEX encodings appear,
+// Every family comes in an AVX2 and an AVX-512 form that do the same
+// arithmetic on each lane, so both give the same bits: the resonator's
+// AVX2 form does to each half of a 512-bit vector what the AVX-512 form
+// does to the whole. Only VEX and EVEX encodings appear,
 // the AVX2 forms use no register above Y15, and every function ends with
 // VZEROUPPER.
 package main
@@ -31,6 +33,7 @@ import (
 // families maps a family name to the function that writes its kernels.
 var families = map[string]func(){
 	"chirp":     chirp,
+	"quantize":  quantize,
 	"resonator": resonator,
 }
 
