@@ -54,20 +54,25 @@ func (l *lanes) prepare(osc []oscillator) {
 	}
 }
 
-// renderBlock adds the live partials' block [b0, b1) into out.
-func (r *Renderer) renderBlock(out []float64, b0, b1 int) {
-	if b1-b0 != BlockFrames {
-		r.scalarBlock(out, r.live, b0, b1)
-		return
-	}
+// renderBlock adds the block [b0, b1) of the partials that can be heard
+// in it into out, and returns how many those are. It looks at each
+// oscillator once a block: whether it is audible, and which path its
+// block takes.
+func (r *Renderer) renderBlock(out []float64, b0, b1 int) int {
 	l := &r.lanes
 	l.rest = l.rest[:0]
 	jobs, chirps := l.jobs[:0], l.chirps[:0]
-	for _, i := range r.live {
+	live := 0
+	for i := range r.osc {
 		o := &r.osc[i]
-		if o.nextCorner(b0) < b1 {
+		if !o.audible(b0) {
+			continue
+		}
+		live++
+		if b1-b0 != BlockFrames || o.nextCorner(b0) < b1 {
 			// A corner of the envelope inside the block needs a span that
-			// ends off the control grid.
+			// ends off the control grid, and so does a note's last, short
+			// block.
 			l.rest = append(l.rest, i)
 			continue
 		}
@@ -83,10 +88,13 @@ func (r *Renderer) renderBlock(out []float64, b0, b1 int) {
 		job.Sin, job.Cos = o.phaseAt(b0)
 		o.blockLevels(&job.Levels, b0)
 	}
-	block := (*[BlockFrames]float64)(out[b0:b1])
-	kernel.AddResonators(block, jobs, l.tables)
-	kernel.AddChirps(block, chirps)
+	if len(jobs)+len(chirps) > 0 {
+		block := (*[BlockFrames]float64)(out[b0:b1])
+		kernel.AddResonators(block, jobs, l.tables)
+		kernel.AddChirps(block, chirps)
+	}
 	r.scalarBlock(out, l.rest, b0, b1)
+	return live
 }
 
 // chirpParams fills job with a moving partial's cells over the block at
