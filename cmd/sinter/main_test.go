@@ -13,6 +13,7 @@ import (
 	"testing"
 	"time"
 
+	"sinter/patch"
 	"sinter/synth/sampleset"
 )
 
@@ -276,8 +277,9 @@ func TestPlot(t *testing.T) {
 	}
 }
 
-// TestInitRendersAsIs: the starter patch passes check and renders, and
-// init never overwrites a file.
+// TestInitRendersAsIs: the starter patch passes check and renders, the
+// schema its first line points at is written beside it and says so, and
+// init never overwrites a file: not a patch, not a schema.
 func TestInitRendersAsIs(t *testing.T) {
 	dir := t.TempDir()
 	wd, _ := os.Getwd()
@@ -285,8 +287,31 @@ func TestInitRendersAsIs(t *testing.T) {
 		t.Fatal(err)
 	}
 	defer os.Chdir(wd)
-	if code, _, stderr := runCLI("init", "first-pad"); code != exitOK {
+	code, stdout, stderr := runCLI("init", "first-pad")
+	if code != exitOK {
 		t.Fatalf("init: exit %d, %s", code, stderr)
+	}
+	if !strings.Contains(stdout, "wrote first-pad.yaml and sinter.schema.json") {
+		t.Errorf("init does not say it wrote the schema: %q", stdout)
+	}
+	src, _ := os.ReadFile("first-pad.yaml")
+	first, _, _ := strings.Cut(string(src), "\n")
+	target := strings.TrimPrefix(first, "# yaml-language-server: $schema=")
+	if target == first {
+		t.Fatalf("the starter patch's first line %q does not point at a schema", first)
+	}
+	if schema, err := os.ReadFile(target); err != nil || !bytes.Equal(schema, patch.JSONSchema()) {
+		t.Errorf("the schema the first line names, %s, is not this version's: %v", target, err)
+	}
+	// A schema already there is the user's: kept, and said so.
+	if err := os.WriteFile("sinter.schema.json", []byte("{}\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if code, stdout, _ := runCLI("init", "second-pad"); code != exitOK || !strings.Contains(stdout, "kept the sinter.schema.json already there") {
+		t.Errorf("init beside a schema: exit %d, %q", code, stdout)
+	}
+	if schema, _ := os.ReadFile("sinter.schema.json"); string(schema) != "{}\n" {
+		t.Errorf("init overwrote the schema already there")
 	}
 	if code, _, stderr := runCLI("render", "first-pad.yaml", "--quiet", "--keys", "C4"); code != exitOK {
 		t.Fatalf("render of the starter patch: exit %d, %s", code, stderr)
