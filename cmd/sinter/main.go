@@ -330,9 +330,17 @@ func verify(args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "%s\n", p)
 	}
 	if len(problems) > 0 {
-		fmt.Fprintf(stderr, "sinter verify: %d problems in %s\n", len(problems), dir)
+		fmt.Fprintf(stderr, "sinter verify: %s in %s\n", count(len(problems), "problem"), dir)
 		return exitFailure
 	}
-	fmt.Fprintf(stdout, "%s: every file matches the manifest\n", dir)
+	fmt.Fprintf(stdout, "%s: every file matches the manifest, and the mapping plays each of them\n", dir)
 	return exitOK
+}
+
+// count writes n things, "1 problem" or "2 problems".
+func count(n int, thing string) string {
+	if n == 1 {
+		return "1 " + thing
+	}
+	return fmt.Sprintf("%d %ss", n, thing)
 }

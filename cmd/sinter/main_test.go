@@ -113,6 +113,39 @@ func TestRenderThenVerify(t *testing.T) {
 	}
 }
 
+// TestVerifyMapping: a mapping edited so that a region names a file that
+// does not exist fails verify, which names the region by its line and
+// counts its problems in words.
+func TestVerifyMapping(t *testing.T) {
+	good := writePatch(t, strings.Replace(smallPatch, "velocities: [64, 127]", "velocities: [127]", 1))
+	out := filepath.Join(t.TempDir(), "set")
+	if code, _, stderr := runCLI("render", good, "-o", out, "--quiet"); code != exitOK {
+		t.Fatalf("render: %s", stderr)
+	}
+	if code, stdout, _ := runCLI("verify", out); code != exitOK || !strings.Contains(stdout, "the mapping plays each of them") {
+		t.Fatalf("verify of a fresh set: exit %d, %q", code, stdout)
+	}
+	sfz := filepath.Join(out, "test-tone.sfz")
+	text, _ := os.ReadFile(sfz)
+	// Both regions play the C4 file: E4's is played by none.
+	edited := strings.Replace(string(text), "test-tone_064_E4_v127.wav", "test-tone_060_C4_v127.wav", 1)
+	if err := os.WriteFile(sfz, []byte(edited), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	code, _, stderr := runCLI("verify", out)
+	if code != exitFailure || !strings.Contains(stderr, "test-tone_064_E4_v127.wav: no region of test-tone.sfz plays it") || !strings.Contains(stderr, "1 problem in") {
+		t.Errorf("exit %d, stderr %q", code, stderr)
+	}
+	edited = strings.Replace(string(text), "test-tone_064_E4_v127.wav", "test-tone_064_E4_v128.wav", 1)
+	if err := os.WriteFile(sfz, []byte(edited), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	code, _, stderr = runCLI("verify", out)
+	if code != exitFailure || !strings.Contains(stderr, "test-tone.sfz:4:1: <region> plays test-tone_064_E4_v128.wav, which does not exist") || !strings.Contains(stderr, "2 problems in") {
+		t.Errorf("exit %d, stderr %q", code, stderr)
+	}
+}
+
 func TestBadPatchWritesNothing(t *testing.T) {
 	bad := writePatch(t, strings.Replace(smallPatch, `"1/n"`, `"1/(n-1)"`, 1))
 	out := filepath.Join(t.TempDir(), "set")
