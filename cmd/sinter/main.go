@@ -11,6 +11,7 @@ import (
 	"io"
 	"os"
 	"os/signal"
+	"path/filepath"
 	"runtime"
 	"strings"
 	"syscall"
@@ -193,16 +194,18 @@ func loadPlan(path, keyList, outDir string) (*patch.Plan, *patch.Patch, error) {
 
 // renderSummary is what render reports with --json.
 type renderSummary struct {
-	Patch      string   `json:"patch"`
-	OutputDir  string   `json:"output_dir"`
-	Files      int      `json:"files"`
-	Levelling  string   `json:"levelling"`
-	Kernel     string   `json:"kernel"`
-	Work       work     `json:"partial_samples"`
-	Rendered   int      `json:"notes_rendered"`
-	Kept       int      `json:"files_kept"`
-	Rerendered int      `json:"notes_rendered_twice"`
-	Warnings   []string `json:"warnings"`
+	Patch        string   `json:"patch"`
+	OutputDir    string   `json:"output_dir"`
+	Files        int      `json:"files"`
+	AudioSeconds float64  `json:"audio_seconds"`
+	Bytes        int64    `json:"bytes"` // of the WAV files
+	Levelling    string   `json:"levelling"`
+	Kernel       string   `json:"kernel"`
+	Work         work     `json:"partial_samples"`
+	Rendered     int      `json:"notes_rendered"`
+	Kept         int      `json:"files_kept"`
+	Rerendered   int      `json:"notes_rendered_twice"`
+	Warnings     []string `json:"warnings"`
 }
 
 func render(args []string, stdout, stderr io.Writer) int {
@@ -256,8 +259,14 @@ func render(args []string, stdout, stderr io.Writer) int {
 	}
 	summary := renderSummary{Patch: plan.PatchFile, OutputDir: res.Dir, Files: len(res.Manifest.Files),
 		Levelling: res.Manifest.Levelling, Kernel: kernel.Active().String(),
-		Work:     work{Computed: res.Stats.PartialSamples, Nominal: res.Stats.Nominal},
+		Work:     work{Computed: res.Stats.PartialSamples, Nominal: res.Stats.Nominal, Counts: renderCounts, Again: &res.Again.PartialSamples},
 		Rendered: res.Rendered, Kept: res.Reused, Rerendered: res.Rerendered, Warnings: res.Warnings}
+	for _, f := range res.Manifest.Files {
+		summary.AudioSeconds += float64(f.Frames) / float64(f.SampleRate)
+		if info, err := os.Stat(filepath.Join(res.Dir, filepath.FromSlash(f.Path))); err == nil {
+			summary.Bytes += info.Size()
+		}
+	}
 	if out.json {
 		return out.emit(summary)
 	}
@@ -266,12 +275,16 @@ func render(args []string, stdout, stderr io.Writer) int {
 	}
 	if !*quiet {
 		if summary.Kept == 0 {
-			fmt.Fprintf(stdout, "rendered %d files into %s (levelling: %s)\n", summary.Files, summary.OutputDir, summary.Levelling)
+			fmt.Fprintf(stdout, "rendered %s into %s (levelling: %s)\n", count(summary.Files, "file"), summary.OutputDir, summary.Levelling)
 		} else {
 			fmt.Fprintf(stdout, "updated %s: %d files, %d kept unchanged, %d notes rendered (levelling: %s; --force renders all)\n",
 				summary.OutputDir, summary.Files, summary.Kept, summary.Rendered, summary.Levelling)
 		}
-		fmt.Fprintf(stdout, "computed %s\n", summary.Work)
+		fmt.Fprintf(stdout, "computed %s", summary.Work)
+		if summary.Rerendered > 0 {
+			fmt.Fprintf(stdout, ", and %.3g more to render %s a second time", float64(*summary.Work.Again), count(summary.Rerendered, "note"))
+		}
+		fmt.Fprintln(stdout)
 	}
 	return exitOK
 }

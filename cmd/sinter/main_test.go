@@ -5,6 +5,7 @@ import (
 	"encoding/json"
 	"fmt"
 	"image/png"
+	"math"
 	"os"
 	"path/filepath"
 	"reflect"
@@ -454,5 +455,94 @@ func TestShardedRenderAndMerge(t *testing.T) {
 		if len(a) == 0 || !bytes.Equal(a, b) {
 			t.Errorf("%s differs between the single render and the merge", name)
 		}
+	}
+}
+
+// TestCheckPlansWhatRenderComputes renders example patches (a few keys of
+// each, copied beside their includes) and patches for the other loop and
+// tail kinds into fresh folders, and compares check --json with render
+// --json figure by figure: files, audio seconds and bytes (exact unless
+// tails end by level, when check's are the most render may write), the
+// partial-samples computed and nominal, the levelling and the folder.
+func TestCheckPlansWhatRenderComputes(t *testing.T) {
+	if testing.Short() {
+		t.Skip("renders several sets")
+	}
+	examples := []struct{ file, keys string }{
+		{"puzzle-pad.yaml", "C3"},   // stereo, crossfade loop, round robins, loudness per key
+		{"hollow-lead.yaml", "C3"},  // whole cycles, retuned; a breakpoint envelope
+		{"harbor-bells.yaml", "G2"}, // tail by level, round robins, stereo, true peak
+		{"attic-harp.yaml", "C3"},   // tail by level, an include, one gain for the set
+		{"dust-choir.yaml", "C3"},   // moving partials, unison, crossfade loop
+	}
+	inline := map[string]string{
+		"drone.yaml": "name: drone\nkeys: [A2]\nhold: 6\ntail: 1\nloop: {crossfade: 0.2}\npartials: [{ratios: [1, 2.41, 3.7], envelope: {attack: 0.3, decay: 0.2, sustain: 0.7, release: 0.8}}]\n",
+		"cycles.yaml": "name: cycles\nkeys: [C3, G3]\nvelocities: [60, 120]\nhold: 1.5\ntail: 0.5\nloop: auto\nnormalize: {peak: -3 dBFS, scope: file}\n" +
+			"partials: [{harmonics: 16, amplitude: \"vel/n\", envelope: {attack: 0.01, decay: \"0.4/n\", sustain: \"0.5/n\", release: 0.2}}]\n",
+		"plain.yaml": "name: plain\nkeys: [C4]\nround_robin: 2\nhold: 0.5\ntail: 0.5\nnormalize: off\npartials: [{harmonics: 6, envelope: {attack: 0.001, decay: 0.3, sustain: 0, release: 0.1}}]\n",
+	}
+	dir := t.TempDir()
+	if err := os.CopyFS(dir, os.DirFS("../../examples")); err != nil {
+		t.Fatal(err)
+	}
+	type run struct{ file, keys string }
+	runs := []run{}
+	for _, e := range examples {
+		runs = append(runs, run(e))
+	}
+	for name, src := range inline {
+		if err := os.WriteFile(filepath.Join(dir, name), []byte(src), 0o644); err != nil {
+			t.Fatal(err)
+		}
+		runs = append(runs, run{name, ""})
+	}
+	type report struct {
+		OK     bool `json:"ok"`
+		Result struct {
+			Files        int     `json:"files"`
+			AudioSeconds float64 `json:"audio_seconds"`
+			Bytes        int64   `json:"bytes"`
+			UpperBounds  bool    `json:"lengths_are_upper_bounds"`
+			Levelling    string  `json:"levelling"`
+			OutputDir    string  `json:"output_dir"`
+			Work         struct {
+				Computed int64  `json:"computed"`
+				Nominal  int64  `json:"nominal"`
+				Counts   string `json:"counts"`
+			} `json:"partial_samples"`
+		} `json:"result"`
+	}
+	for _, r := range runs {
+		t.Run(r.file, func(t *testing.T) {
+			path := filepath.Join(dir, r.file)
+			args := []string{path, "--json"}
+			if r.keys != "" {
+				args = append(args, "--keys", r.keys)
+			}
+			var planned, rendered report
+			code, stdout, stderr := runCLI(append([]string{"check"}, args...)...)
+			if err := json.Unmarshal([]byte(stdout), &planned); code != exitOK || err != nil {
+				t.Fatalf("check: exit %d, %v, %s", code, err, stderr)
+			}
+			code, stdout, stderr = runCLI(append([]string{"render", "--quiet"}, args...)...)
+			if err := json.Unmarshal([]byte(stdout), &rendered); code != exitOK || err != nil {
+				t.Fatalf("render: exit %d, %v, %s", code, err, stderr)
+			}
+			p, g := planned.Result, rendered.Result
+			if p.Work.Computed != g.Work.Computed || p.Work.Nominal != g.Work.Nominal {
+				t.Errorf("partial-samples: check plans %d of %d nominal, render computed %d of %d", p.Work.Computed, p.Work.Nominal, g.Work.Computed, g.Work.Nominal)
+			}
+			if p.Work.Counts == "" || g.Work.Counts == "" {
+				t.Errorf("check or render does not say what its partial-samples count")
+			}
+			if p.Files != g.Files || p.Levelling != g.Levelling || p.OutputDir != g.OutputDir {
+				t.Errorf("check plans %d files, %q, into %s; render wrote %d, %q, into %s", p.Files, p.Levelling, p.OutputDir, g.Files, g.Levelling, g.OutputDir)
+			}
+			exact := math.Abs(p.AudioSeconds-g.AudioSeconds) < 1e-9 && p.Bytes == g.Bytes
+			bounded := g.AudioSeconds <= p.AudioSeconds && g.Bytes <= p.Bytes && g.Bytes > 0
+			if p.UpperBounds && !bounded || !p.UpperBounds && !exact {
+				t.Errorf("check plans %.6f s and %d bytes (upper bounds: %v); render wrote %.6f s and %d bytes", p.AudioSeconds, p.Bytes, p.UpperBounds, g.AudioSeconds, g.Bytes)
+			}
+		})
 	}
 }
