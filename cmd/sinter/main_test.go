@@ -294,7 +294,7 @@ func TestPlot(t *testing.T) {
 	good := writePatch(t, smallPatch)
 	file := filepath.Join(t.TempDir(), "tone.png")
 	code, stdout, stderr := runCLI("plot", good, "--key", "E4", "-o", file, "--width", "640", "--height", "900")
-	if code != exitOK || !strings.Contains(stdout, "drew E4, velocity 127") {
+	if code != exitOK || !strings.Contains(stdout, "drew E4, velocity 127, at its levelling gain of ") {
 		t.Fatalf("exit %d, stdout %q, stderr %q", code, stdout, stderr)
 	}
 	f, err := os.Open(file)

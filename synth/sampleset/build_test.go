@@ -802,3 +802,37 @@ func TestVerifyChecksMapping(t *testing.T) {
 		})
 	}
 }
+
+// TestGainMatchesBuild: Gain, which renders and measures only a note's
+// scope, gives each note the gain Build wrote into the manifest, for each
+// measure and scope and when the ceiling lowers the gain.
+func TestGainMatchesBuild(t *testing.T) {
+	for _, extra := range []string{
+		"normalize: off",
+		"normalize: {peak: -1 dBFS}",
+		"normalize: {peak: -1 dBFS, scope: key}",
+		"normalize: {loudness: -14 LUFS, scope: file}",
+		"normalize: {loudness: -6 LUFS, ceiling: -3 dBTP}", // the ceiling lowers the set's gain
+	} {
+		t.Run(extra, func(t *testing.T) {
+			dir := filepath.Join(t.TempDir(), "set")
+			plan := newPlan(t, patchSource(24, 1, extra), dir)
+			res, err := sampleset.Build(context.Background(), plan, sampleset.Options{Jobs: 2, Version: "test"})
+			if err != nil {
+				t.Fatal(err)
+			}
+			if strings.Contains(extra, "ceiling") && len(res.Warnings) == 0 {
+				t.Errorf("the ceiling does not lower the gain; the case tests nothing")
+			}
+			for i, f := range res.Manifest.Files {
+				gain, err := sampleset.Gain(context.Background(), plan, i, 2)
+				if err != nil {
+					t.Fatal(err)
+				}
+				if got := 20 * math.Log10(gain); math.Abs(got-f.GainDB) > 1e-9 {
+					t.Errorf("%s: Gain says %.12f dB, Build applied %.12f dB", f.Path, got, f.GainDB)
+				}
+			}
+		})
+	}
+}
