@@ -14,11 +14,11 @@ import (
 
 func check(args []string, stdout, stderr io.Writer) int {
 	fs := flag.NewFlagSet("check", flag.ContinueOnError)
-	keyList := fs.String("keys", "", "plan only these keys")
+	keyList := fs.String("keys", "", "plan only the keys of `LIST`")
 	asJSON := fs.Bool("json", false, "print the plan, or the errors, as JSON on stdout")
-	path, ok := parseArgs(fs, args, stderr)
+	path, code, ok := parseArgs(fs, args, stdout, stderr)
 	if !ok {
-		return exitUsage
+		return code
 	}
 	out := reporter{json: *asJSON, stdout: stdout, stderr: stderr, command: "check"}
 	plan, p, err := loadPlan(path, *keyList, "")

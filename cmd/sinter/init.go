@@ -39,9 +39,9 @@ const schemaFile = "sinter.schema.json"
 
 func initPatch(args []string, stdout, stderr io.Writer) int {
 	fs := flag.NewFlagSet("init", flag.ContinueOnError)
-	name, ok := parseArgs(fs, args, stderr)
+	name, code, ok := parseArgs(fs, args, stdout, stderr)
 	if !ok {
-		return exitUsage
+		return code
 	}
 	out := reporter{stdout: stdout, stderr: stderr, command: "init"}
 	if err := patch.CheckName(name); err != nil {

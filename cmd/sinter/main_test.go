@@ -68,6 +68,14 @@ func TestExitStatuses(t *testing.T) {
 		{"render key not in patch", []string{"render", good, "--keys", "D4"}, exitUsage, "", "key D4 (62) is not one of the patch's keys"},
 		{"render bad key list", []string{"render", good, "--keys", "C4,H9"}, exitUsage, "", `"H9" is not a key`},
 		{"verify missing set", []string{"verify", t.TempDir()}, exitFailure, "", "manifest.json"},
+		{"render empty shard", []string{"render", good, "--shard", ""}, exitUsage, "", `shard "" is not K/N (shard K of N, from 1) or auto`},
+		{"render empty shard, = form", []string{"render", good, "--shard="}, exitUsage, "", `shard "" is not K/N`},
+		{"render shard without N", []string{"render", good, "--shard", "1/"}, exitUsage, "", `shard "1/" is not K/N`},
+		{"render shard without K", []string{"render", good, "--shard", "/3"}, exitUsage, "", `shard "/3" is not K/N`},
+		{"render shard 0", []string{"render", good, "--shard", "0/3"}, exitUsage, "", "shard 0 of 3 does not exist"},
+		{"check seed above 2^53", []string{"check", writePatch(t, "name: x\nseed: 9007199254740993\npartials: [{ratio: 1}]\n")}, exitUsage, "",
+			"p.yaml:2:7: seed: 9007199254740993 is out of range: expected 0..9007199254740992"},
+		{"help for a command unknown", []string{"help", "bake"}, exitUsage, "", `unknown command "bake"`},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
@@ -446,6 +454,14 @@ func TestShardedRenderAndMerge(t *testing.T) {
 		}
 		shards = append(shards, dir)
 	}
+	// The same folder twice, as written or spelled another way, is said to
+	// be that, not taken for a second copy of its shard.
+	for _, again := range []string{shards[0], shards[0] + "/", shards[0] + "/."} {
+		code, _, stderr := runCLI("merge", path, "-o", filepath.Join(root, "twice"), shards[0], shards[1], again, shards[2])
+		if want := fmt.Sprintf("cannot merge %s: the folder was given twice (as %s and as %s)", again, shards[0], again); code != exitFailure || !strings.Contains(stderr, want) {
+			t.Errorf("merge given %s twice: exit %d, %q; want %q", shards[0], code, stderr, want)
+		}
+	}
 	if code, stdout, stderr := runCLI(append([]string{"merge", path, "-o", filepath.Join(root, "merged")}, shards...)...); code != exitOK || !strings.Contains(stdout, "merged 3 shards") {
 		t.Fatalf("merge: exit %d, %s %s", code, stdout, stderr)
 	}
@@ -544,5 +560,70 @@ func TestCheckPlansWhatRenderComputes(t *testing.T) {
 				t.Errorf("check plans %.6f s and %d bytes (upper bounds: %v); render wrote %.6f s and %d bytes", p.AudioSeconds, p.Bytes, p.UpperBounds, g.AudioSeconds, g.Bytes)
 			}
 		})
+	}
+}
+
+// TestCommandHelp: sinter help COMMAND and sinter COMMAND --help (or -h)
+// print the same text, that command's usage, what it does, its flags, an
+// example, and the paragraphs on --json and LIST only where the command
+// takes them; no other command's usage. sinter help keeps the overview,
+// with the --json paragraph naming the commands it belongs to.
+func TestCommandHelp(t *testing.T) {
+	cases := []struct {
+		name       string
+		flags      []string // some of the flags its help must list
+		json, keys bool
+	}{
+		{"render", []string{"-o DIR", "--keys LIST", "--jobs N", "--quiet", "--json", "--allow-large", "--force", "--shard K/N"}, true, true},
+		{"check", []string{"--keys LIST", "--json"}, true, true},
+		{"merge", []string{"-o DIR", "--json"}, true, false},
+		{"verify", nil, false, false},
+		{"plot", []string{"--key C4", "--velocity V", "-o FILE.png", "--width W", "--height H"}, false, false},
+		{"init", nil, false, false},
+		{"schema", nil, false, false},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			code, viaHelp, _ := runCLI("help", c.name)
+			if code != exitOK {
+				t.Fatalf("help %s: exit %d", c.name, code)
+			}
+			for _, args := range [][]string{{c.name, "--help"}, {c.name, "-h"}} {
+				if code, out, _ := runCLI(args...); code != exitOK || out != viaHelp {
+					t.Errorf("%v: exit %d, and its text differs from sinter help %s:\n%s", args, code, c.name, out)
+				}
+			}
+			if !strings.HasPrefix(viaHelp, "Usage: sinter "+c.name) || !strings.Contains(viaHelp, "\nExample:\n  sinter "+c.name+" ") {
+				t.Errorf("no usage or example:\n%s", viaHelp)
+			}
+			for _, f := range c.flags {
+				if !strings.Contains(viaHelp, "\n  "+f+" ") {
+					t.Errorf("flag %q not listed:\n%s", f, viaHelp)
+				}
+			}
+			if got := strings.Contains(viaHelp, "--json (render, check and merge)"); got != c.json {
+				t.Errorf("the --json paragraph there: %v, want %v", got, c.json)
+			}
+			if got := strings.Contains(viaHelp, "LIST (render and check) is"); got != c.keys {
+				t.Errorf("the LIST paragraph there: %v, want %v", got, c.keys)
+			}
+			for _, other := range cases {
+				if other.name != c.name && strings.Contains(viaHelp, "sinter "+other.name+" ") {
+					t.Errorf("the help of %s mentions sinter %s:\n%s", c.name, other.name, viaHelp)
+				}
+			}
+		})
+	}
+	code, overview, _ := runCLI("help")
+	if code != exitOK {
+		t.Fatalf("help: exit %d", code)
+	}
+	for _, c := range cases {
+		if !strings.Contains(overview, "\n  sinter "+c.name) {
+			t.Errorf("the overview lacks %s", c.name)
+		}
+	}
+	if strings.Count(overview, "--json (render, check and merge) prints") != 1 || !strings.Contains(overview, "sinter help COMMAND") {
+		t.Errorf("overview:\n%s", overview)
 	}
 }

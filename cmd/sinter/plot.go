@@ -20,14 +20,14 @@ import (
 
 func plotNote(args []string, stdout, stderr io.Writer) int {
 	fs := flag.NewFlagSet("plot", flag.ContinueOnError)
-	keyName := fs.String("key", "", "root key to draw (default: the patch's key nearest C4)")
-	velocity := fs.Int("velocity", 0, "velocity layer to draw (default: the loudest)")
-	outFile := fs.String("o", "", "PNG file to write (default: NAME_KEY.png beside the patch)")
-	width := fs.Int("width", 1200, "picture width in pixels")
-	height := fs.Int("height", 1500, "picture height in pixels")
-	path, ok := parseArgs(fs, args, stderr)
+	keyName := fs.String("key", "", "the root key to draw, such as `C4` (default: the patch's key nearest C4)")
+	velocity := fs.Int("velocity", 0, "velocity layer `V` to draw (default: the loudest)")
+	outFile := fs.String("o", "", "the `FILE.png` to write (default: NAME_KEY.png beside the patch)")
+	width := fs.Int("width", 1200, "picture width `W` in pixels")
+	height := fs.Int("height", 1500, "picture height `H` in pixels")
+	path, code, ok := parseArgs(fs, args, stdout, stderr)
 	if !ok {
-		return exitUsage
+		return code
 	}
 	out := reporter{stdout: stdout, stderr: stderr, command: "plot"}
 	p, err := patch.Load(path)
