@@ -25,6 +25,7 @@ type ReadError struct {
 	Msg          string
 }
 
+// Error writes the place, line:column, and what is wrong there.
 func (e *ReadError) Error() string { return fmt.Sprintf("%d:%d: %s", e.Line, e.Column, e.Msg) }
 
 // maxSFZLine bounds one line of a mapping; sinter writes a few hundred
