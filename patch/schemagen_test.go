@@ -346,17 +346,38 @@ func sameLength(x, y string) string {
 	case x == y:
 		return x
 	case len(x) == 1:
-		return "[" + x + "-" + y + "]"
+		return digits(x[0], y[0])
 	case x[0] == y[0]:
-		return x[:1] + "(?:" + sameLength(x[1:], y[1:]) + ")"
+		return x[:1] + alternatives(sameLength(x[1:], y[1:]))
 	}
 	rest := len(x) - 1
-	alts := []string{x[:1] + "(?:" + sameLength(x[1:], strings.Repeat("9", rest)) + ")"}
+	alts := []string{x[:1] + alternatives(sameLength(x[1:], strings.Repeat("9", rest)))}
 	if x[0]+1 <= y[0]-1 {
-		alts = append(alts, fmt.Sprintf("[%c-%c][0-9]{%d}", x[0]+1, y[0]-1, rest))
+		any := "[0-9]"
+		if rest > 1 {
+			any += fmt.Sprintf("{%d}", rest)
+		}
+		alts = append(alts, digits(x[0]+1, y[0]-1)+any)
 	}
-	alts = append(alts, y[:1]+"(?:"+sameLength(strings.Repeat("0", rest), y[1:])+")")
+	alts = append(alts, y[:1]+alternatives(sameLength(strings.Repeat("0", rest), y[1:])))
 	return strings.Join(alts, "|")
+}
+
+// digits matches one digit from a to b.
+func digits(a, b byte) string {
+	if a == b {
+		return string(a)
+	}
+	return fmt.Sprintf("[%c-%c]", a, b)
+}
+
+// alternatives brackets a pattern with alternatives, so that what follows or
+// comes before it applies to all of them.
+func alternatives(p string) string {
+	if strings.Contains(p, "|") {
+		return "(?:" + p + ")"
+	}
+	return p
 }
 
 // accidentals are the spellings patch.ParseNote reads for each shift in
