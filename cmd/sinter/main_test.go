@@ -498,8 +498,21 @@ func TestCheckPlansWhatRenderComputes(t *testing.T) {
 		"plain.yaml": "name: plain\nkeys: [C4]\nround_robin: 2\nhold: 0.5\ntail: 0.5\nnormalize: off\npartials: [{harmonics: 6, envelope: {attack: 0.001, decay: 0.3, sustain: 0, release: 0.1}}]\n",
 	}
 	dir := t.TempDir()
-	if err := os.CopyFS(dir, os.DirFS("../../examples")); err != nil {
-		t.Fatal(err)
+	// The patches and what they include, not any set rendered beside them.
+	sources, _ := filepath.Glob("../../examples/*.yaml")
+	parts, _ := filepath.Glob("../../examples/parts/*.yaml")
+	for _, src := range append(sources, parts...) {
+		rel, _ := filepath.Rel("../../examples", src)
+		data, err := os.ReadFile(src)
+		if err == nil {
+			err = os.MkdirAll(filepath.Join(dir, filepath.Dir(rel)), 0o755)
+		}
+		if err == nil {
+			err = os.WriteFile(filepath.Join(dir, rel), data, 0o644)
+		}
+		if err != nil {
+			t.Fatal(err)
+		}
 	}
 	type run struct{ file, keys string }
 	runs := []run{}
