@@ -11,38 +11,39 @@ import (
 // frequencies.
 func (d *decoder) body(n *yaml.Node, path string) []BodyPoint {
 	var points []BodyPoint
-	d.points(n, path, axis{"hz", "frequency", " Hz", 1, 1e6, 800}, axis{"dB", "level", " dB", -200, 60, 6}, func(x, y float64) {
+	d.points(n, path, bodyRule, axis{"hz", "frequency", 800, bodyHzRule}, axis{"dB", "level", 6, bodyDBRule}, func(x, y float64) {
 		points = append(points, BodyPoint{Hz: x, DB: y})
 	})
 	return points
 }
 
 // axis describes one coordinate of a breakpoint for points: its name in
-// the example point, the noun for it, its unit as range errors print it,
-// its range and an example value.
+// the example point, the noun for it, an example value and the rule for
+// its range and unit.
 type axis struct {
-	name, noun, unit string
-	lo, hi, example  float64
+	name, noun string
+	example    float64
+	rule       *Rule
 }
 
-// points reads a list of [x, y] breakpoints whose x rise, calling add for
-// each good one in order.
-func (d *decoder) points(n *yaml.Node, path string, x, y axis, add func(x, y float64)) {
+// points reads a list of [x, y] breakpoints whose x rise, as many as rule
+// lr allows, calling add for each good one in order.
+func (d *decoder) points(n *yaml.Node, path string, lr *Rule, x, y axis, add func(x, y float64)) {
 	last := math.Inf(-1)
-	for i, item := range d.list(n, path) {
+	for i, item := range d.list(n, path, lr) {
 		sub := fmt.Sprintf("%s[%d]", path, i)
 		pair := d.resolve(item)
 		if pair.Kind != yaml.SequenceNode || len(pair.Content) != 2 {
 			d.errorf(pair, sub, "expected a point [%s, %s] such as [%g, %g], found %s", x.name, y.name, x.example, y.example, describe(pair))
 			continue
 		}
-		px, ok1 := d.ranged(pair.Content[0], sub+"[0]", x.lo, x.hi, x.unit)
-		py, ok2 := d.ranged(pair.Content[1], sub+"[1]", y.lo, y.hi, y.unit)
+		px, ok1 := d.ranged(pair.Content[0], sub+"[0]", x.rule)
+		py, ok2 := d.ranged(pair.Content[1], sub+"[1]", y.rule)
 		if !ok1 || !ok2 {
 			continue
 		}
 		if px <= last {
-			d.errorf(pair.Content[0], sub+"[0]", "the points must rise in %s: %g%s follows %g%s", x.noun, px, x.unit, last, x.unit)
+			d.errorf(pair.Content[0], sub+"[0]", "the points must rise in %s: %g%s follows %g%s", x.noun, px, x.rule.Unit, last, x.rule.Unit)
 			continue
 		}
 		last = px

@@ -17,18 +17,6 @@ var groupKinds = []string{"harmonics", "ratio", "ratios", "modes", "spectrum", "
 
 var envelopeKeys = []string{"attack", "decay", "sustain", "release", "curve", "points", "stretch"}
 
-// Envelope curves for decay and release.
-var curves = []string{"exponential", "linear"}
-
-// Spectra a group can take from its Fourier series, by name.
-var spectra = []string{"sawtooth", "square", "triangle"}
-
-// Phase rules besides a number or an expression.
-var phaseRules = []string{"random", "schroeder"}
-
-// Pan rules besides a number or an expression.
-var panRules = []string{"alternate", "random", "ratio"}
-
 // Limits on groups.
 const (
 	MaxUnison   = 16
@@ -99,7 +87,7 @@ func (d *decoder) groups(n *yaml.Node, path string, defaults EnvelopeSpec) []Gro
 		d.errorf(n, path, "expected a list of partial groups, found %s", describe(n))
 		return nil
 	}
-	if len(n.Content) == 0 {
+	if len(n.Content) < partialsRule.MinItems {
 		d.errorf(n, path, "the partials list is empty; add a group such as {harmonics: 8}")
 	}
 	groups := make([]Group, 0, len(n.Content))
@@ -130,38 +118,28 @@ func (d *decoder) group(item *yaml.Node, path string, defaults EnvelopeSpec) Gro
 			d.series(v, path, &g)
 		case "ratio":
 			g.Kind = KindRatio
-			g.Ratio, _ = d.ranged(v, path, 1e-6, 1e6, "")
+			g.Ratio, _ = d.ranged(v, path, ratioRule)
 		case "ratios":
 			g.Kind = KindRatios
-			for i, r := range d.list(v, path) {
-				x, _ := d.ranged(r, fmt.Sprintf("%s[%d]", path, i), 1e-6, 1e6, "")
+			for i, r := range d.list(v, path, ratiosRule) {
+				x, _ := d.ranged(r, fmt.Sprintf("%s[%d]", path, i), ratiosItemRule)
 				g.Ratios = append(g.Ratios, x)
 			}
 		case "modes":
 			g.Kind = KindModes
-			name, _ := d.text(v, path)
-			if _, ok := modeTables[name]; ok {
-				g.Table = name
-			} else if name != "" {
-				d.errorf(v, path, "%q is not a mode table; expected one of %s", name, strings.Join(modeTableNames(), ", "))
-			}
+			g.Table = d.word(v, path, modesRule)
 		case "spectrum":
 			g.Kind = KindSpectrum
-			name, _ := d.text(v, path)
-			if slices.Contains(spectra, name) {
-				g.Spectrum = name
-			} else if name != "" {
-				d.errorf(v, path, "%q is not a spectrum; expected one of %s", name, strings.Join(spectra, ", "))
-			}
+			g.Spectrum = d.word(v, path, spectrumRule)
 		case "cluster":
 			g.Kind = KindCluster
 			d.cluster(v, path, &g)
 		case "count":
-			g.Count, _ = d.integer(v, path, 1, MaxSeries)
+			g.Count, _ = d.integer(v, path, countRule)
 		case "amplitude":
 			g.Amplitude, _ = d.value(v, path, true)
 		case "amplitudes":
-			for i, a := range d.list(v, path) {
+			for i, a := range d.list(v, path, amplitudesRule) {
 				x, _ := d.value(a, fmt.Sprintf("%s[%d]", path, i), true)
 				g.Amplitudes = append(g.Amplitudes, x)
 			}
@@ -232,15 +210,19 @@ func listOrNone(keys []string) string {
 	return strings.Join(keys, " and ")
 }
 
-// list reads a non-empty sequence of at most maxListLen items.
-func (d *decoder) list(n *yaml.Node, path string) []*yaml.Node {
+// list reads a sequence of as many items as rule lr allows.
+func (d *decoder) list(n *yaml.Node, path string, lr *Rule) []*yaml.Node {
 	r := d.resolve(n)
 	if r.Kind != yaml.SequenceNode {
 		d.errorf(r, path, "expected a list such as [1, 2.756, 5.404], found %s", describe(r))
 		return nil
 	}
-	if len(r.Content) == 0 || len(r.Content) > maxListLen {
-		d.errorf(r, path, "expected 1 to %d entries, found %d", maxListLen, len(r.Content))
+	switch {
+	case lr.MaxItems > 0 && (len(r.Content) < lr.MinItems || len(r.Content) > lr.MaxItems):
+		d.errorf(r, path, "expected %d to %d entries, found %d", lr.MinItems, lr.MaxItems, len(r.Content))
+		return nil
+	case len(r.Content) < lr.MinItems:
+		d.errorf(r, path, "expected at least %d entries, found %d", lr.MinItems, len(r.Content))
 		return nil
 	}
 	return d.items(r)
@@ -249,7 +231,7 @@ func (d *decoder) list(n *yaml.Node, path string) []*yaml.Node {
 // phase reads a phase in degrees (number or expression) or a phase rule.
 func (d *decoder) phase(n *yaml.Node, path string) (PhaseRule, Value) {
 	if r := d.resolve(n); r.Kind == yaml.ScalarNode && r.ShortTag() == "!!str" {
-		if i := slices.Index(phaseRules, r.Value); i >= 0 {
+		if i := slices.Index(phaseRule.Words, r.Value); i >= 0 {
 			return PhaseRule(i + 1), constValue(0)
 		}
 	}
@@ -261,17 +243,17 @@ func (d *decoder) phase(n *yaml.Node, path string) (PhaseRule, Value) {
 func (d *decoder) series(n *yaml.Node, path string, g *Group) {
 	g.Kind, g.First, g.Step = KindSeries, 1, 1
 	if r := d.resolve(n); r.Kind == yaml.ScalarNode {
-		g.Count, _ = d.integer(r, path, 1, MaxSeries)
+		g.Count, _ = d.integer(r, path, seriesRule)
 		return
 	}
 	d.fields(n, path, []string{"count", "first", "step"}, func(key string, v *yaml.Node, path string) {
 		switch key {
 		case "count":
-			g.Count, _ = d.integer(v, path, 1, MaxSeries)
+			g.Count, _ = d.integer(v, path, seriesRule)
 		case "first":
-			g.First, _ = d.integer(v, path, 1, 1_000_000)
+			g.First, _ = d.integer(v, path, firstRule)
 		case "step":
-			g.Step, _ = d.integer(v, path, 1, 1_000_000)
+			g.Step, _ = d.integer(v, path, stepRule)
 		}
 	})
 	if g.Count == 0 && !hasKey(d.resolve(n), "count") {
@@ -285,11 +267,11 @@ func (d *decoder) cluster(n *yaml.Node, path string, g *Group) {
 	d.fields(n, path, []string{"count", "from", "to"}, func(key string, v *yaml.Node, path string) {
 		switch key {
 		case "count":
-			c.Count, _ = d.integer(v, path, 1, MaxSeries)
+			c.Count, _ = d.integer(v, path, clusterRule)
 		case "from":
-			c.From, _ = d.ranged(v, path, 1e-6, 1e6, "")
+			c.From, _ = d.ranged(v, path, clusterEndRule)
 		case "to":
-			c.To, _ = d.ranged(v, path, 1e-6, 1e6, "")
+			c.To, _ = d.ranged(v, path, clusterEndRule)
 		}
 	})
 	r := d.resolve(n)
@@ -308,11 +290,11 @@ func (d *decoder) unison(n *yaml.Node, path string, g *Group) {
 	d.fields(n, path, []string{"voices", "spread", "width"}, func(key string, v *yaml.Node, path string) {
 		switch key {
 		case "voices":
-			u.Voices, _ = d.integer(v, path, 1, MaxUnison)
+			u.Voices, _ = d.integer(v, path, voicesRule)
 		case "spread":
-			u.Spread, _ = d.ranged(v, path, 0, maxSpread, " cents")
+			u.Spread, _ = d.ranged(v, path, spreadRule)
 		case "width":
-			u.Width, _ = d.ranged(v, path, 0, 1, "")
+			u.Width, _ = d.ranged(v, path, widthRule)
 		}
 	})
 	g.Unison = u
@@ -329,18 +311,15 @@ func (d *decoder) pan(n *yaml.Node, path string, g *Group) {
 	d.fields(r, path, []string{"rule", "width"}, func(key string, v *yaml.Node, path string) {
 		switch key {
 		case "rule":
-			name, _ := d.text(v, path)
-			if i := slices.Index(panRules, name); i >= 0 {
+			if i := slices.Index(panWordRule.Words, d.word(v, path, panWordRule)); i >= 0 {
 				g.PanRule = PanRule(i + 1)
-			} else if name != "" {
-				d.errorf(v, path, "%q is not a pan rule; expected one of %s", name, strings.Join(panRules, ", "))
 			}
 		case "width":
-			g.PanWidth, _ = d.ranged(v, path, 0, 1, "")
+			g.PanWidth, _ = d.ranged(v, path, panWidthRule)
 		}
 	})
 	if !hasKey(r, "rule") {
-		d.errorf(r, path, "a pan mapping needs a rule (%s); for one position write a number from -1 to 1", strings.Join(panRules, ", "))
+		d.errorf(r, path, "a pan mapping needs a rule (%s); for one position write a number from -1 to 1", panWordRule.words())
 	}
 }
 
@@ -358,20 +337,12 @@ func (d *decoder) envelope(n *yaml.Node, path string, defaults EnvelopeSpec) Env
 		case "release":
 			env.Release, _ = d.value(v, path, false)
 		case "curve":
-			name, _ := d.text(v, path)
-			if !slices.Contains(curves, name) && name != "" {
-				d.errorf(d.resolve(v), path, "%q is not an envelope curve; expected %s", name, strings.Join(curves, " or "))
-			}
-			env.Linear = name == "linear"
+			env.Linear = d.word(v, path, curveRule) == "linear"
 		case "points":
 			env.Points = nil
-			d.points(v, path, axis{"seconds", "time", " s", 0, MaxSeconds, 0.01}, axis{"level", "level", "", 0, 1, 1}, func(t, l float64) {
+			d.points(v, path, pointsRule, axis{"seconds", "time", 0.01, envTimeRule}, axis{"level", "level", 1, envLevelRule}, func(t, l float64) {
 				env.Points = append(env.Points, EnvelopePoint{Time: t, Level: l})
 			})
-			if len(env.Points) > MaxEnvelopePoints {
-				d.errorf(d.resolve(v), path, "%d points; an envelope may have at most %d", len(env.Points), MaxEnvelopePoints)
-				env.Points = env.Points[:MaxEnvelopePoints]
-			}
 		case "stretch":
 			env.Stretch, _ = d.value(v, path, false)
 		}
@@ -389,7 +360,7 @@ func (d *decoder) envelope(n *yaml.Node, path string, defaults EnvelopeSpec) Env
 // pitch reads a pitch envelope: [[seconds, cents], …] with rising times.
 func (d *decoder) pitch(n *yaml.Node, path string) []PitchPoint {
 	var points []PitchPoint
-	d.points(n, path, axis{"seconds", "time", " s", 0, MaxSeconds, 0.1}, axis{"cents", "pitch", " cents", -4800, 4800, -30}, func(x, y float64) {
+	d.points(n, path, pitchRule, axis{"seconds", "time", 0.1, pitchTimeRule}, axis{"cents", "pitch", -30, pitchCentsRule}, func(x, y float64) {
 		points = append(points, PitchPoint{Time: x, Cents: y})
 	})
 	return points

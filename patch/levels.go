@@ -4,37 +4,41 @@ import (
 	"fmt"
 	"math"
 	"regexp"
+	"slices"
 	"strconv"
 
 	"gopkg.in/yaml.v3"
 )
 
-// levelPattern reads a level such as "-1 dBFS", "-16 LUFS" or "-1 dBTP".
-var levelPattern = regexp.MustCompile(`^\s*([+-]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][+-]?[0-9]+)?)\s*(dBFS|dBTP|LUFS|dB)?\s*$`)
+// levelPattern reads a level written as text, such as "-1 dBFS", "-16 LUFS"
+// or "-1 dBTP": a decimal number without an exponent, so that the schema
+// can hold its range as a pattern, and a unit.
+var levelPattern = regexp.MustCompile(`^\s*([+-]?(?:[0-9]+\.?[0-9]*|\.[0-9]+))\s*(dBFS|dBTP|LUFS|dB)?\s*$`)
 
-// level reads a number with an optional unit; units lists the ones allowed.
-func (d *decoder) level(n *yaml.Node, path string, lo, hi float64, units ...string) (float64, string, bool) {
-	r := d.resolve(n)
-	m := levelPattern.FindStringSubmatch(r.Value)
-	if r.Kind != yaml.ScalarNode || m == nil {
-		d.errorf(r, path, "expected a level such as -1 %s, found %s", units[0], describe(r))
+// level reads a number, or a level with one of rule r's units, within r's
+// range; it returns the value and its unit.
+func (d *decoder) level(n *yaml.Node, path string, r *Rule) (float64, string, bool) {
+	node := d.resolve(n)
+	if node.Kind == yaml.ScalarNode && (node.ShortTag() == "!!int" || node.ShortTag() == "!!float") {
+		v, ok := d.ranged(node, path, &Rule{Min: r.Min, Max: r.Max, Unit: " " + r.Units[0]})
+		return v, r.Units[0], ok
+	}
+	m := levelPattern.FindStringSubmatch(node.Value)
+	if node.Kind != yaml.ScalarNode || m == nil {
+		d.errorf(node, path, "expected a level such as -1 %s, found %s", r.Units[0], describe(node))
 		return 0, "", false
 	}
 	unit := m[2]
 	if unit == "" || unit == "dB" {
-		unit = units[0]
+		unit = r.Units[0]
 	}
-	allowed := false
-	for _, u := range units {
-		allowed = allowed || u == unit
-	}
-	if !allowed {
-		d.errorf(r, path, "%s is not a unit for this level; expected %v", m[2], units)
+	if !slices.Contains(r.Units, unit) {
+		d.errorf(node, path, "%s is not a unit for this level; expected %v", m[2], r.Units)
 		return 0, "", false
 	}
 	v, _ := strconv.ParseFloat(m[1], 64)
-	if v < lo || v > hi {
-		d.errorf(r, path, "%g %s is out of range: expected %g..%g %s", v, unit, lo, hi, unit)
+	if v < r.Min || v > r.Max {
+		d.errorf(node, path, "%g %s is out of range: expected %g..%g %s", v, unit, r.Min, r.Max, unit)
 		return 0, "", false
 	}
 	return v, unit, true
@@ -66,7 +70,7 @@ var scopeNames = map[string]Scope{"set": ScopeSet, "key": ScopeKey, "file": Scop
 func (d *decoder) normalize(n *yaml.Node, path string) Normalize {
 	norm := defaultNormalize()
 	if r := d.resolve(n); r.Kind == yaml.ScalarNode {
-		if r.Value == "off" || r.Value == "false" {
+		if slices.Contains(normalizeRule.Words, r.Value) {
 			return Normalize{Measure: MeasureOff, Ceiling: 0}
 		}
 		d.errorf(r, path, "expected off or a mapping such as {peak: -1 dBFS}, found %s", describe(r))
@@ -78,24 +82,21 @@ func (d *decoder) normalize(n *yaml.Node, path string) Normalize {
 		case "peak":
 			measures++
 			norm.Measure = MeasurePeak
-			norm.Target, _, _ = d.level(v, path, -60, 0, "dBFS")
+			norm.Target, _, _ = d.level(v, path, peakRule)
 		case "true_peak":
 			measures++
 			norm.Measure = MeasureTruePeak
-			norm.Target, _, _ = d.level(v, path, -60, 0, "dBTP")
+			norm.Target, _, _ = d.level(v, path, truePeakRule)
 		case "loudness":
 			measures++
 			norm.Measure = MeasureLoudness
-			norm.Target, _, _ = d.level(v, path, -70, 0, "LUFS")
+			norm.Target, _, _ = d.level(v, path, loudnessRule)
 		case "scope":
-			s, _ := d.text(v, path)
-			scope, ok := scopeNames[s]
-			if !ok {
-				d.errorf(d.resolve(v), path, "scope %q is not one of set, key, file", clip(s))
+			if s := d.word(v, path, scopeRule); s != "" {
+				norm.Scope = scopeNames[s]
 			}
-			norm.Scope = scope
 		case "ceiling":
-			c, unit, _ := d.level(v, path, -60, 0, "dBFS", "dBTP")
+			c, unit, _ := d.level(v, path, ceilingRule)
 			norm.Ceiling, norm.CeilingTruePeak = c, unit == "dBTP"
 		case "strict":
 			norm.Strict = d.onOff(v, path)
@@ -107,17 +108,16 @@ func (d *decoder) normalize(n *yaml.Node, path string) Normalize {
 	return norm
 }
 
-// onOff reads a switch: true/false, on/off or yes/no.
+// onOff reads a switch: true/false, on/off or yes/no, the words of
+// switchRule in pairs.
 func (d *decoder) onOff(n *yaml.Node, path string) bool {
 	r := d.resolve(n)
-	switch r.Value {
-	case "true", "on", "yes":
-		return true
-	case "false", "off", "no":
+	i := slices.Index(switchRule.Words, r.Value)
+	if r.Kind != yaml.ScalarNode || i < 0 {
+		d.errorf(r, path, "expected on or off, found %s", describe(r))
 		return false
 	}
-	d.errorf(r, path, "expected on or off, found %s", describe(r))
-	return false
+	return i%2 == 0
 }
 
 // tail reads a tail length in seconds, auto (until −90 dBFS), or
@@ -125,20 +125,20 @@ func (d *decoder) onOff(n *yaml.Node, path string) bool {
 func (d *decoder) tail(n *yaml.Node, path string) (seconds, until float64) {
 	const defaultUntil = -90.0
 	r := d.resolve(n)
-	if r.Kind == yaml.ScalarNode && r.Value == "auto" {
+	if r.Kind == yaml.ScalarNode && slices.Contains(tailRule.Words, r.Value) {
 		return MaxSeconds, math.Pow(10, defaultUntil/20)
 	}
 	if r.Kind == yaml.ScalarNode {
-		s, _ := d.ranged(r, path, 0, MaxSeconds, " s")
+		s, _ := d.ranged(r, path, tailRule)
 		return s, 0
 	}
 	seconds, untilDB := float64(MaxSeconds), defaultUntil
 	d.fields(r, path, []string{"until", "max"}, func(key string, v *yaml.Node, path string) {
 		switch key {
 		case "until":
-			untilDB, _, _ = d.level(v, path, -200, -20, "dBFS")
+			untilDB, _, _ = d.level(v, path, tailUntilRule)
 		case "max":
-			seconds, _ = d.ranged(v, path, 0, MaxSeconds, " s")
+			seconds, _ = d.ranged(v, path, tailMaxRule)
 		}
 	})
 	return seconds, math.Pow(10, untilDB/20)
@@ -149,10 +149,11 @@ func (d *decoder) loop(n *yaml.Node, path string) LoopSpec {
 	r := d.resolve(n)
 	spec := LoopSpec{Line: r.Line, Column: r.Column, Mode: LoopAuto, Start: -1, Length: 1, Crossfade: 0.05}
 	if r.Kind == yaml.ScalarNode {
-		switch r.Value {
-		case "off", "false":
+		// The first two of loopRule's words turn the loop off, the others on.
+		switch i := slices.Index(loopRule.Words, r.Value); {
+		case i >= 0 && i < 2:
 			return LoopSpec{}
-		case "auto", "on", "true":
+		case i >= 2:
 			return spec
 		}
 		d.errorf(r, path, "expected off, auto or a mapping such as {length: 1, crossfade: 0.05}, found %s", describe(r))
@@ -161,11 +162,11 @@ func (d *decoder) loop(n *yaml.Node, path string) LoopSpec {
 	d.fields(r, path, []string{"start", "length", "crossfade", "exact"}, func(key string, v *yaml.Node, path string) {
 		switch key {
 		case "start":
-			spec.Start, _ = d.ranged(v, path, 0, MaxSeconds, " s")
+			spec.Start, _ = d.ranged(v, path, loopStartRule)
 		case "length":
-			spec.Length, _ = d.ranged(v, path, 0.01, MaxSeconds, " s")
+			spec.Length, _ = d.ranged(v, path, loopLengthRule)
 		case "crossfade":
-			spec.Crossfade, _ = d.ranged(v, path, 0.001, 10, " s")
+			spec.Crossfade, _ = d.ranged(v, path, crossfadeRule)
 		case "exact":
 			spec.Exact = d.onOff(v, path)
 		}

@@ -21,8 +21,8 @@ func ParseNote(s string) (int, error) {
 		return 0, fmt.Errorf("empty note name")
 	}
 	if n, err := strconv.Atoi(t); err == nil {
-		if n < 0 || n > 127 {
-			return 0, fmt.Errorf("MIDI note %d is outside 0..127", n)
+		if float64(n) < noteRule.Min || float64(n) > noteRule.Max {
+			return 0, fmt.Errorf("MIDI note %d is outside %g..%g", n, noteRule.Min, noteRule.Max)
 		}
 		return n, nil
 	}
@@ -49,8 +49,8 @@ func ParseNote(s string) (int, error) {
 		return 0, fmt.Errorf("%q: octave %d is outside -1..9", s, octave)
 	}
 	m := (octave+1)*12 + base + shift
-	if m < 0 || m > 127 {
-		return 0, fmt.Errorf("%q is MIDI note %d, outside 0..127", s, m)
+	if float64(m) < noteRule.Min || float64(m) > noteRule.Max {
+		return 0, fmt.Errorf("%q is MIDI note %d, outside %g..%g", s, m, noteRule.Min, noteRule.Max)
 	}
 	return m, nil
 }

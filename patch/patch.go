@@ -180,7 +180,7 @@ const (
 	defaultFade       = 0.1
 )
 
-var namePattern = regexp.MustCompile(`^[a-z0-9][a-z0-9._-]*$`)
+var namePattern = regexp.MustCompile(nameRule.Pattern)
 
 // CheckName reports whether name can name a set: it starts every file
 // name, so it must be safe in one on every system.
@@ -295,18 +295,16 @@ func (d *decoder) patch(root *yaml.Node, p *Patch) {
 				p.Name = s
 			}
 		case "sample_rate":
-			p.SampleRate, _ = d.integer(v, path, MinSampleRate, MaxSampleRate)
+			p.SampleRate, _ = d.integer(v, path, sampleRateRule)
 		case "bit_depth":
-			if b, ok := d.integer(v, path, 0, 64); ok && b != 16 && b != 24 && b != 32 {
-				d.errorf(d.resolve(v), path, "bit depth %d is not supported: expected 16 or 24 (PCM) or 32 (float)", b)
-			} else {
+			if b, ok := d.integer(v, path, bitDepthRule); ok {
 				p.BitDepth = b
 			}
 		case "channels":
-			p.Channels, _ = d.integer(v, path, 1, 2)
+			p.Channels, _ = d.integer(v, path, channelsRule)
 		case "tuning":
 			d.fields(v, path, []string{"a4"}, func(_ string, v *yaml.Node, path string) {
-				p.A4, _ = d.ranged(v, path, 100, 1000, " Hz")
+				p.A4, _ = d.ranged(v, path, a4Rule)
 			})
 		case "keys":
 			keysNode = v
@@ -314,14 +312,14 @@ func (d *decoder) patch(root *yaml.Node, p *Patch) {
 			p.Velocities = d.velocities(v, path)
 		case "hold":
 			holdNode = d.resolve(v)
-			p.Hold, _ = d.ranged(v, path, 0, MaxSeconds, " s")
+			p.Hold, _ = d.ranged(v, path, holdRule)
 		case "tail":
 			tailNode = d.resolve(v)
 			p.Tail, p.TailUntil = d.tail(v, path)
 		case "band_limit":
-			p.BandLimit, _ = d.ranged(v, path, 0.01, 0.5, "")
+			p.BandLimit, _ = d.ranged(v, path, bandLimitRule)
 		case "band_fade":
-			p.BandFade, _ = d.ranged(v, path, 0, 1, "")
+			p.BandFade, _ = d.ranged(v, path, bandFadeRule)
 		case "normalize":
 			p.Normalize = d.normalize(v, path)
 		case "loop":
@@ -329,9 +327,9 @@ func (d *decoder) patch(root *yaml.Node, p *Patch) {
 		case "body":
 			p.Body = d.body(v, path)
 		case "round_robin":
-			p.RoundRobin, _ = d.integer(v, path, 1, MaxRoundRobin)
+			p.RoundRobin, _ = d.integer(v, path, roundRobinRule)
 		case "seed":
-			if s, ok := d.integer(v, path, 0, 1<<53); ok {
+			if s, ok := d.integer(v, path, seedRule); ok {
 				p.Seed = uint64(s)
 			}
 		case "dither":
@@ -422,7 +420,7 @@ func (d *decoder) keys(n *yaml.Node, path string) []int {
 			case "to":
 				to, _ = d.note(v, path)
 			case "step":
-				step, _ = d.integer(v, path, 1, 127)
+				step, _ = d.integer(v, path, keyStepRule)
 			}
 		})
 		switch {
@@ -443,7 +441,7 @@ func (d *decoder) keys(n *yaml.Node, path string) []int {
 		return keys
 	}
 	items := d.items(n)
-	if len(items) == 0 {
+	if len(items) < keysRule.MinItems {
 		d.errorf(n, path, "the key list is empty")
 	}
 	at := map[int]*yaml.Node{}
@@ -464,8 +462,13 @@ func (d *decoder) keys(n *yaml.Node, path string) []int {
 	return keys
 }
 
+// note reads a key: a MIDI number, which may be written 60.0 as JSON
+// writes it, or a note name.
 func (d *decoder) note(n *yaml.Node, path string) (int, bool) {
 	n = d.resolve(n)
+	if n.Kind == yaml.ScalarNode && (n.ShortTag() == "!!int" || n.ShortTag() == "!!float") {
+		return d.integer(n, path, noteRule)
+	}
 	if n.Kind != yaml.ScalarNode {
 		d.errorf(n, path, "expected a note such as C4 or a MIDI number, found %s", describe(n))
 		return 0, false
@@ -481,12 +484,12 @@ func (d *decoder) note(n *yaml.Node, path string) (int, bool) {
 func (d *decoder) velocities(n *yaml.Node, path string) []int {
 	var vels []int
 	items := d.items(n)
-	if len(items) == 0 {
+	if len(items) < velocitiesRule.MinItems {
 		d.errorf(d.resolve(n), path, "the velocity list is empty")
 	}
 	for i, item := range items {
 		sub := fmt.Sprintf("%s[%d]", path, i)
-		v, ok := d.integer(item, sub, 1, 127)
+		v, ok := d.integer(item, sub, velocityRule)
 		if !ok {
 			continue
 		}

@@ -123,6 +123,23 @@ partials:
 		line: 2, column: 14, path: "sample_rate", msg: "1000 is out of range: expected 8000..384000",
 	},
 	{
+		// 2^53 + 1, which a float64 rounds to 2^53, the largest seed.
+		name: "seed above 2^53",
+		src: `name: harbor-glass
+seed: 9007199254740993
+partials: [{ratio: 1}]
+`,
+		line: 2, column: 7, path: "seed", msg: "9007199254740993 is out of range: expected 0..9007199254740992",
+	},
+	{
+		name: "seed above 2^53 in hex",
+		src: `name: harbor-glass
+seed: 0x20000000000001
+partials: [{ratio: 1}]
+`,
+		line: 2, column: 7, path: "seed", msg: "0x20000000000001 is out of range: expected 0..9007199254740992",
+	},
+	{
 		name: "sample rate not whole",
 		src: `name: harbor-glass
 sample_rate: 44100.5
@@ -457,7 +474,7 @@ partials:
 envelope: {curve: cubic}
 partials: [{ratio: 1}]
 `,
-		line: 2, column: 19, path: "envelope.curve", msg: `"cubic" is not an envelope curve; expected exponential or linear`,
+		line: 2, column: 19, path: "envelope.curve", msg: `"cubic" is not an envelope curve; expected one of exponential, linear`,
 	},
 	{
 		name: "points with an attack",

@@ -368,7 +368,7 @@ func (x *expander) partials(n *Note) {
 			vars[varN], vars[varRatio], vars[varHz] = src.n, ratio, ratio*n.F0
 			if g.Kind == KindSeries || g.Kind == KindSpectrum {
 				b := 0.0
-				if !x.eval(&b, g.Stiffness, vars, n, 0, 1, "") {
+				if !x.eval(&b, g.Stiffness, vars, n, stiffnessRule) {
 					continue
 				}
 				// Fletcher (1964): a stiff string's partial n sits at
@@ -377,10 +377,10 @@ func (x *expander) partials(n *Note) {
 				vars[varRatio], vars[varHz] = ratio, ratio*n.F0
 			}
 			var detune, tilt, pan float64
-			ok := x.eval(&detune, g.Detune, vars, n, -4800, 4800, " cents")
-			ok = x.eval(&tilt, g.Tilt, vars, n, -60, 60, " dB/octave") && ok
+			ok := x.eval(&detune, g.Detune, vars, n, detuneRule)
+			ok = x.eval(&tilt, g.Tilt, vars, n, tiltRule) && ok
 			if g.PanRule == PanValue {
-				ok = x.eval(&pan, g.Pan, vars, n, -1, 1, "") && ok
+				ok = x.eval(&pan, g.Pan, vars, n, panRule) && ok
 			} else {
 				pan = x.panByRule(g, gi, src, logLow, logHigh)
 			}
@@ -452,14 +452,14 @@ func (x *expander) motion(g *Group, gi int, src source, voice int, vars []float6
 	m := &Motion{Pitch: g.Pitch}
 	ok := true
 	if v := g.Vibrato; v != nil {
-		ok = x.eval(&m.Vibrato.Rate, v.Rate, vars, n, 0, 100, " Hz") && ok
-		ok = x.eval(&m.Vibrato.Depth, v.Depth, vars, n, 0, 1200, " cents") && ok
-		ok = x.eval(&m.Vibrato.Delay, v.Delay, vars, n, 0, MaxSeconds, " s") && ok
-		ok = x.eval(&m.Vibrato.Fade, v.Fade, vars, n, 0, MaxSeconds, " s") && ok
+		ok = x.eval(&m.Vibrato.Rate, v.Rate, vars, n, vibRateRule) && ok
+		ok = x.eval(&m.Vibrato.Depth, v.Depth, vars, n, vibDepthRule) && ok
+		ok = x.eval(&m.Vibrato.Delay, v.Delay, vars, n, vibDelayRule) && ok
+		ok = x.eval(&m.Vibrato.Fade, v.Fade, vars, n, vibFadeRule) && ok
 	}
 	if d := g.Drift; d != nil {
-		ok = x.eval(&m.Drift.Rate, d.Rate, vars, n, 0, 100, " Hz") && ok
-		ok = x.eval(&m.Drift.Depth, d.Depth, vars, n, 0, 1200, " cents") && ok
+		ok = x.eval(&m.Drift.Rate, d.Rate, vars, n, driftRateRule) && ok
+		ok = x.eval(&m.Drift.Depth, d.Depth, vars, n, driftDepthRule) && ok
 		m.Drift.Seed = deriveSeed(n.Seed, seedDrift, uint64(gi), uint64(src.index), uint64(voice))
 	}
 	highest := 0.0
@@ -472,28 +472,30 @@ func (x *expander) motion(g *Group, gi int, src source, voice int, vars []float6
 
 // shape evaluates a partial's amplitude, phase and envelope.
 func (x *expander) shape(part *Partial, g *Group, src source, vars []float64, n *Note) bool {
-	ok := x.eval(&part.Amplitude, g.Amplitude, vars, n, math.Inf(-1), math.Inf(1), "")
+	ok := x.eval(&part.Amplitude, g.Amplitude, vars, n, anyNumber)
 	if len(g.Amplitudes) > 0 {
 		a := 0.0
-		ok = x.eval(&a, g.Amplitudes[src.index], vars, n, math.Inf(-1), math.Inf(1), "") && ok
+		ok = x.eval(&a, g.Amplitudes[src.index], vars, n, anyNumber) && ok
 		part.Amplitude *= a
 	}
 	if g.PhaseRule == PhaseValue {
 		phaseDeg := 0.0
-		ok = x.eval(&phaseDeg, g.Phase, vars, n, math.Inf(-1), math.Inf(1), "") && ok
+		ok = x.eval(&phaseDeg, g.Phase, vars, n, phaseRule) && ok
 		part.Phase = phaseDeg * math.Pi / 180
 	}
 	e := &g.Envelope
 	if len(e.Points) > 0 {
 		last := e.Points[len(e.Points)-1]
-		ok = x.eval(&part.Envelope.Stretch, e.Stretch, vars, n, 0, MaxSeconds/max(last.Time, 1e-9), "") && ok
+		// The last point, stretched, may come no later than MaxSeconds.
+		stretch := &Rule{Min: stretchRule.Min, Max: min(stretchRule.Max, MaxSeconds/max(last.Time, 1e-9))}
+		ok = x.eval(&part.Envelope.Stretch, e.Stretch, vars, n, stretch) && ok
 		part.Envelope.Points, part.Envelope.Sustain = e.Points, last.Level
 	} else {
-		ok = x.eval(&part.Envelope.Attack, e.Attack, vars, n, 0, MaxSeconds, " s") && ok
-		ok = x.eval(&part.Envelope.Decay, e.Decay, vars, n, 0, MaxSeconds, " s") && ok
-		ok = x.eval(&part.Envelope.Sustain, e.Sustain, vars, n, 0, 1, "") && ok
+		ok = x.eval(&part.Envelope.Attack, e.Attack, vars, n, timeRule) && ok
+		ok = x.eval(&part.Envelope.Decay, e.Decay, vars, n, timeRule) && ok
+		ok = x.eval(&part.Envelope.Sustain, e.Sustain, vars, n, sustainRule) && ok
 	}
-	ok = x.eval(&part.Envelope.Release, e.Release, vars, n, 0, MaxSeconds, " s") && ok
+	ok = x.eval(&part.Envelope.Release, e.Release, vars, n, timeRule) && ok
 	part.Envelope.Linear = e.Linear
 	return ok
 }
@@ -555,17 +557,21 @@ func schroederPhases(parts []Partial, f0, shift float64) {
 	}
 }
 
+// anyNumber is the rule of a setting that may be any finite number: an
+// amplitude.
+var anyNumber = &Rule{Min: math.Inf(-1), Max: math.Inf(1)}
+
 // eval computes one setting for one partial and checks it is finite and
-// within lo..hi.
-func (x *expander) eval(dst *float64, v Value, vars []float64, n *Note, lo, hi float64, unit string) bool {
+// within rule's range.
+func (x *expander) eval(dst *float64, v Value, vars []float64, n *Note, rule *Rule) bool {
 	r := v.eval(vars)
-	if !math.IsNaN(r) && !math.IsInf(r, 0) && r >= lo && r <= hi {
+	if !math.IsNaN(r) && !math.IsInf(r, 0) && r >= rule.Min && r <= rule.Max {
 		*dst = r
 		return true
 	}
 	if !x.reported[v.path] {
 		x.reported[v.path] = true
-		what := fmt.Sprintf("%v is outside %g..%g%s", r, lo, hi, unit)
+		what := fmt.Sprintf("%v is outside %g..%g%s", r, rule.Min, rule.Max, rule.Unit)
 		if math.IsNaN(r) || math.IsInf(r, 0) {
 			what = fmt.Sprintf("is %v, not a finite number,", r)
 		}
@@ -574,9 +580,6 @@ func (x *expander) eval(dst *float64, v Value, vars []float64, n *Note, lo, hi f
 	}
 	return false
 }
-
-// minLoopSeconds is the shortest sustain loop worth writing.
-const minLoopSeconds = 0.02
 
 // loop turns the patch's loop request into frames for one note: the loop
 // may start once every envelope has reached its sustain level (and, for a
@@ -607,7 +610,7 @@ func (x *expander) loop(n *Note) {
 		}
 	}
 	req.MaxLength = min(int(math.Round(spec.Length*rate)), n.NoteOff-req.Start)
-	if req.MaxLength < max(int(minLoopSeconds*rate), 2*req.Crossfade) {
+	if req.MaxLength < max(int(math.Round(loopLengthRule.Min*rate)), 2*req.Crossfade) {
 		x.loopError(fmt.Sprintf("no room for a loop at key %s: it can start at %.3f s (envelopes settled plus the crossfade) but the note is released at %.3f s; raise hold or shorten attack, decay or crossfade",
 			NoteName(n.Key), float64(req.Start)/rate, float64(n.NoteOff)/rate))
 		return

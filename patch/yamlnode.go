@@ -3,6 +3,7 @@ package patch
 import (
 	"fmt"
 	"math"
+	"math/big"
 	"slices"
 	"strconv"
 	"strings"
@@ -198,8 +199,10 @@ func (d *decoder) number(n *yaml.Node, path string) (float64, bool) {
 	return 0, false
 }
 
-// integer reads a whole number within lo..hi.
-func (d *decoder) integer(n *yaml.Node, path string, lo, hi int) (int, bool) {
+// integer reads a whole number that rule r allows. Above 2^53 a float64
+// no longer holds every whole number, so there the text is compared
+// exactly, and 2^53 + 1 is not taken for 2^53.
+func (d *decoder) integer(n *yaml.Node, path string, r *Rule) (int, bool) {
 	n = d.resolve(n)
 	v, ok := d.number(n, path)
 	if !ok {
@@ -209,21 +212,67 @@ func (d *decoder) integer(n *yaml.Node, path string, lo, hi int) (int, bool) {
 		d.errorf(n, path, "expected a whole number, found %s", n.Value)
 		return 0, false
 	}
-	if v < float64(lo) || v > float64(hi) {
-		d.errorf(n, path, "%s is out of range: expected %d..%d", n.Value, lo, hi)
+	if r.Values != nil {
+		if !slices.Contains(r.Values, int(v)) {
+			d.errorf(n, path, "%s %s is not supported: expected %s", r.Noun, n.Value, joinInts(r.Values))
+			return 0, false
+		}
+		return int(v), true
+	}
+	if v < r.Min || v > r.Max || math.Abs(v) >= 1<<53 && !exactlyWithin(n, r) {
+		d.errorf(n, path, "%s is out of range: expected %d..%d", n.Value, int64(r.Min), int64(r.Max))
 		return 0, false
 	}
 	return int(v), true
 }
 
-// ranged reads a number within lo..hi (inclusive).
-func (d *decoder) ranged(n *yaml.Node, path string, lo, hi float64, unit string) (float64, bool) {
+// exactlyWithin reports whether the number scalar n, read exactly, lies in
+// r's range.
+func exactlyWithin(n *yaml.Node, r *Rule) bool {
+	s := strings.ReplaceAll(n.Value, "_", "")
+	x, ok := new(big.Rat).SetString(s)
+	if !ok {
+		i, ok := new(big.Int).SetString(s, 0) // 0x, 0o and 0b integers
+		if !ok {
+			return false
+		}
+		x = new(big.Rat).SetInt(i)
+	}
+	lo, _ := new(big.Rat).SetString(strconv.FormatFloat(r.Min, 'f', -1, 64))
+	hi, _ := new(big.Rat).SetString(strconv.FormatFloat(r.Max, 'f', -1, 64))
+	return x.Cmp(lo) >= 0 && x.Cmp(hi) <= 0
+}
+
+func joinInts(values []int) string {
+	s := make([]string, len(values))
+	for i, v := range values {
+		s[i] = strconv.Itoa(v)
+	}
+	return strings.Join(s[:len(s)-1], ", ") + " or " + s[len(s)-1]
+}
+
+// ranged reads a number within rule r's range.
+func (d *decoder) ranged(n *yaml.Node, path string, r *Rule) (float64, bool) {
 	v, ok := d.number(n, path)
-	if ok && (v < lo || v > hi) {
-		d.errorf(d.resolve(n), path, "%g%s is out of range: expected %g..%g%s", v, unit, lo, hi, unit)
+	if ok && (v < r.Min || v > r.Max) {
+		d.errorf(d.resolve(n), path, "%g%s is out of range: expected %g..%g%s", v, r.Unit, r.Min, r.Max, r.Unit)
 		return 0, false
 	}
 	return v, ok
+}
+
+// word reads one of rule r's words; an empty result means it reported the
+// value.
+func (d *decoder) word(n *yaml.Node, path string, r *Rule) string {
+	s, ok := d.text(n, path)
+	if !ok {
+		return ""
+	}
+	if !slices.Contains(r.Words, s) {
+		d.errorf(d.resolve(n), path, "%q is not %s; expected one of %s", clip(s), r.Noun, r.words())
+		return ""
+	}
+	return s
 }
 
 // text reads a scalar as a string.

@@ -106,3 +106,39 @@ func TestCrestFactor(t *testing.T) {
 		}
 	}
 }
+
+// TestWorkLoopedMatchesRenderLooped: synth.WorkLooped counts exactly the
+// partial-samples RenderLooped computes, for each kind of loop: a
+// crossfade (whose continuation after the loop Work alone leaves out, so
+// that a drone with a long hold rendered nearly twice what check
+// planned), whole cycles, whole cycles retuned, none; mono and stereo.
+func TestWorkLoopedMatchesRenderLooped(t *testing.T) {
+	cases := []struct{ name, src string }{
+		{"crossfade drone", "hold: 3\ntail: 1\nloop: {crossfade: 0.2}\npartials: [{ratios: [1, 2.41, 3.7], envelope: {attack: 0.1, decay: 0.2, sustain: 0.6, release: 0.5}}]"},
+		{"crossfade, stereo, decaying partials", "channels: 2\nhold: 2\ntail: 0.5\nloop: {length: 0.6, crossfade: 0.1}\npartials: [{harmonics: 12, amplitude: \"1/n\", pan: {rule: alternate, width: 0.5}, envelope: {attack: 0.01, decay: \"0.2/n\", sustain: \"max(0, 4 - n)/3\", release: 0.3}}, {ratio: 2.001, amplitude: -20 dB}]"},
+		{"crossfade, late swell", "hold: 2\ntail: 0.3\nloop: {crossfade: 0.05, start: 1.2, length: 0.5}\npartials: [{ratio: 1.5, envelope: {points: [[0, 1], [0.2, 0], [0.6, 0], [0.9, 1]]}}]"},
+		{"whole cycles", "hold: 2\ntail: 0.5\nloop: auto\npartials: [{harmonics: 8, envelope: {attack: 0.01, decay: 0.2, sustain: 0.5, release: 0.2}}]"},
+		{"whole cycles, retuned", "hold: 2\ntail: 0.5\nloop: {exact: on}\npartials: [{harmonics: 8}]"},
+		{"no loop", "hold: 1\ntail: auto\npartials: [{harmonics: 8, envelope: {attack: 0.001, decay: \"1/n\", sustain: 0, release: 0.2}}]"},
+	}
+	var r synth.Renderer
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			p, err := patch.Parse("work.yaml", []byte("name: work\nkeys: [A3]\n"+c.src+"\n"))
+			if err != nil {
+				t.Fatal(err)
+			}
+			plan, err := p.Expand(patch.ExpandOptions{})
+			if err != nil {
+				t.Fatal(err)
+			}
+			n := &plan.Notes[0]
+			loop, _ := synth.PlanLoop(n)
+			got := synth.WorkLooped(n, loop)
+			want := r.RenderLooped(make([]float64, synth.Frames(n)), n, loop)
+			if got != want {
+				t.Errorf("WorkLooped %+v, RenderLooped %+v (Work alone %+v)", got, want, synth.Work(n))
+			}
+		})
+	}
+}

@@ -169,12 +169,7 @@ func (r *Renderer) RenderLooped(dst []float64, n *patch.Note, loop Loop) Stats {
 		return stats
 	}
 	ch := n.Channels
-	// The continuation: the same note released one loop earlier, read from
-	// Start, lands its release at the original note-off frame. Only the
-	// part from Start on is rendered.
-	cont := *n
-	cont.NoteOff -= loop.Frames()
-	cont.Frames -= loop.Frames()
+	cont := continuation(n, loop)
 	if cap(r.continuation) < Frames(&cont) {
 		r.continuation = make([]float64, Frames(&cont))
 	}
@@ -194,6 +189,33 @@ func (r *Renderer) RenderLooped(dst []float64, n *patch.Note, loop Loop) Stats {
 		}
 	}
 	copy(dst[(loop.End+1)*ch:], after[loop.Start*ch:])
+	return stats
+}
+
+// continuation is what RenderLooped renders after a crossfade loop: the
+// same note released one loop earlier, which, read from the loop's Start
+// on (only that part is rendered), lands its release at the original
+// note-off frame.
+func continuation(n *patch.Note, loop Loop) patch.Note {
+	cont := *n
+	cont.NoteOff -= loop.Frames()
+	cont.Frames -= loop.Frames()
+	return cont
+}
+
+// WorkLooped returns the oscillator work RenderLooped does for n with
+// loop, without rendering: Work's, and after a crossfade loop that of the
+// continuation from the loop's start. Retuning moves no partial's level,
+// so it changes no work.
+func WorkLooped(n *patch.Note, loop Loop) Stats {
+	stats := Work(n)
+	if loop.Crossfade == 0 {
+		return stats
+	}
+	cont := continuation(n, loop)
+	more := workFrom(&cont, loop.Start)
+	stats.PartialSamples += more.PartialSamples
+	stats.Nominal += more.Nominal
 	return stats
 }
 

@@ -11,16 +11,21 @@ import (
 // for each partial, the blocks in which it can reach SilenceLevel. For an
 // envelope that never rises again once it has fallen those are a prefix,
 // which a binary search over the blocks finds in a dozen envelope
-// evaluations; other envelopes are checked block by block. RenderLooped adds the
-// continuation after a crossfade loop, which Work leaves out.
-func Work(n *patch.Note) Stats {
+// evaluations; other envelopes are checked block by block. WorkLooped
+// adds the continuation RenderLooped renders after a crossfade loop.
+func Work(n *patch.Note) Stats { return workFrom(n, 0) }
+
+// workFrom is the work of renderFrom(…, n, from): the blocks from the one
+// holding frame from on.
+func workFrom(n *patch.Note, from int) Stats {
+	first := from / BlockFrames * BlockFrames
 	if n.Channels == 1 {
-		return workOf(n.Partials, n)
+		return workOf(n.Partials, n, first)
 	}
 	var stats Stats
 	passes, _ := stereoPasses(nil, n)
 	for _, pass := range passes {
-		s := workOf(pass.partials, n)
+		s := workOf(pass.partials, n, first)
 		stats.PartialSamples += s.PartialSamples
 		if len(pass.partials) > 0 {
 			stats.Nominal += s.Nominal
@@ -29,8 +34,10 @@ func Work(n *patch.Note) Stats {
 	return stats
 }
 
-func workOf(partials []patch.Partial, n *patch.Note) Stats {
-	stats := Stats{Nominal: int64(len(partials)) * int64(n.Frames)}
+// workOf counts the partials' audible samples from frame first, a block
+// start, on.
+func workOf(partials []patch.Partial, n *patch.Note, first int) Stats {
+	stats := Stats{Nominal: int64(len(partials)) * int64(max(0, n.Frames-first))}
 	blocks := (n.Frames + BlockFrames - 1) / BlockFrames
 	var store []segment
 	for _, p := range partials {
@@ -39,7 +46,7 @@ func workOf(partials []patch.Partial, n *patch.Note) Stats {
 		o := oscillator{amp: p.Amplitude, env: env, endPos: -1}
 		if o.env.risesLate {
 			// Audible blocks need not be a prefix: count them one by one.
-			for b := range blocks {
+			for b := first / BlockFrames; b < blocks; b++ {
 				if o.audible(b * BlockFrames) {
 					stats.PartialSamples += int64(min(n.Frames, (b+1)*BlockFrames) - b*BlockFrames)
 				}
@@ -47,7 +54,7 @@ func workOf(partials []patch.Partial, n *patch.Note) Stats {
 			continue
 		}
 		audible := sort.Search(blocks, func(b int) bool { return !o.audible(b * BlockFrames) })
-		stats.PartialSamples += int64(min(n.Frames, audible*BlockFrames))
+		stats.PartialSamples += int64(max(0, min(n.Frames, audible*BlockFrames)-first))
 	}
 	return stats
 }

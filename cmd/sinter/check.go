@@ -14,11 +14,11 @@ import (
 
 func check(args []string, stdout, stderr io.Writer) int {
 	fs := flag.NewFlagSet("check", flag.ContinueOnError)
-	keyList := fs.String("keys", "", "plan only these keys")
+	keyList := fs.String("keys", "", "plan only the keys of `LIST`")
 	asJSON := fs.Bool("json", false, "print the plan, or the errors, as JSON on stdout")
-	path, ok := parseArgs(fs, args, stderr)
+	path, code, ok := parseArgs(fs, args, stdout, stderr)
 	if !ok {
-		return exitUsage
+		return code
 	}
 	out := reporter{json: *asJSON, stdout: stdout, stderr: stderr, command: "check"}
 	plan, p, err := loadPlan(path, *keyList, "")
@@ -36,36 +36,55 @@ func check(args []string, stdout, stderr io.Writer) int {
 // planSummary is what check reports: printed as text, or as JSON with
 // --json.
 type planSummary struct {
-	Patch        string    `json:"patch"`
-	Name         string    `json:"name"`
-	Files        int       `json:"files"`
-	Keys         int       `json:"keys"`
-	Layers       int       `json:"velocity_layers"`
-	RoundRobins  int       `json:"round_robins"`
-	SampleRate   int       `json:"sample_rate"`
-	BitDepth     int       `json:"bit_depth"`
-	Channels     int       `json:"channels"`
-	AudioSeconds float64   `json:"audio_seconds"` // an upper bound when tails end by level
-	TailUntilDB  float64   `json:"tail_until_dbfs,omitempty"`
-	FileSeconds  float64   `json:"file_seconds"`
-	Bytes        int64     `json:"bytes"`
-	OutputDir    string    `json:"output_dir"`
-	Work         work      `json:"partial_samples"`
-	BandLimitHz  float64   `json:"band_limit_hz"`
-	BandFadeHz   float64   `json:"band_fade_from_hz"`
-	BandLimit    float64   `json:"band_limit"`
-	Levelling    string    `json:"levelling"`
-	Dither       bool      `json:"dither"`
-	OverLimit    string    `json:"over_limit,omitempty"` // why render would refuse it without --allow-large
-	PerKey       []keyPlan `json:"per_key"`
+	Patch        string  `json:"patch"`
+	Name         string  `json:"name"`
+	Files        int     `json:"files"`
+	Keys         int     `json:"keys"`
+	Layers       int     `json:"velocity_layers"`
+	RoundRobins  int     `json:"round_robins"`
+	SampleRate   int     `json:"sample_rate"`
+	BitDepth     int     `json:"bit_depth"`
+	Channels     int     `json:"channels"`
+	AudioSeconds float64 `json:"audio_seconds"` // an upper bound when tails end by level
+	TailUntilDB  float64 `json:"tail_until_dbfs,omitempty"`
+	FileSeconds  float64 `json:"file_seconds"`
+	Bytes        int64   `json:"bytes"`
+	// UpperBounds says that audio_seconds and bytes are the most a render
+	// writes: tails end by level, which only rendering finds.
+	UpperBounds bool `json:"lengths_are_upper_bounds,omitempty"`
+	// TwoPasses says levelling needs every note measured before the first
+	// is written, so render may render some notes twice.
+	TwoPasses   bool      `json:"two_passes"`
+	OutputDir   string    `json:"output_dir"`
+	Work        work      `json:"partial_samples"`
+	BandLimitHz float64   `json:"band_limit_hz"`
+	BandFadeHz  float64   `json:"band_fade_from_hz"`
+	BandLimit   float64   `json:"band_limit"`
+	Levelling   string    `json:"levelling"`
+	Dither      bool      `json:"dither"`
+	OverLimit   string    `json:"over_limit,omitempty"` // why render would refuse it without --allow-large
+	PerKey      []keyPlan `json:"per_key"`
 }
 
 // work is oscillator work in partial-samples: what the renderer computes,
-// and what it would without skipping silent spans.
+// and what it would without skipping silent spans. Counts says what the
+// figures count, so a pipeline comparing check's with render's knows what
+// neither says: check plans one render of each note, a crossfade loop's
+// continuation included, and render reports that work for the notes it
+// rendered, with the notes a set levelled as a whole renders a second
+// time (Again, render's only) apart.
 type work struct {
-	Computed int64 `json:"computed"`
-	Nominal  int64 `json:"nominal"`
+	Computed int64  `json:"computed"`
+	Nominal  int64  `json:"nominal"`
+	Counts   string `json:"counts"`
+	Again    *int64 `json:"second_renders,omitempty"`
 }
+
+// What check's and render's work figures count.
+const (
+	checkCounts  = "one render of each note, loop continuations included; not the second renders of a set levelled as a whole, which render reports as second_renders, nor files render keeps unchanged from an earlier set"
+	renderCounts = "one render of each note rendered, loop continuations included; second_renders are the notes a set levelled as a whole rendered again"
+)
 
 func (w work) String() string {
 	skipped := 0.0
@@ -104,18 +123,23 @@ func summarize(plan *patch.Plan, p *patch.Patch) planSummary {
 		OutputDir: plan.OutputDir, BandLimit: p.BandLimit, BandLimitHz: p.BandLimit * float64(p.SampleRate),
 		BandFadeHz: p.BandLimit * (1 - p.BandFade) * float64(p.SampleRate),
 		Levelling:  p.Normalize.String(), Dither: plan.Dither && plan.BitDepth != 32,
+		TwoPasses: p.Normalize.Measure != patch.MeasureOff && p.Normalize.Scope != patch.ScopeFile,
 	}
 	if p.TailUntil > 0 {
 		s.TailUntilDB = 20 * math.Log10(p.TailUntil)
 	}
 	est := sampleset.EstimatePlan(plan)
-	s.AudioSeconds, s.Bytes, s.Work.Nominal = est.AudioSeconds, est.Bytes, est.PartialSamples
+	s.AudioSeconds, s.Bytes, s.UpperBounds = est.AudioSeconds, est.Bytes, p.TailUntil > 0
 	if err := sampleset.DefaultLimits.Check(est); err != nil {
 		s.OverLimit = err.Error()
 	}
+	s.Work.Counts = checkCounts
 	for i := range plan.Notes {
 		n := &plan.Notes[i]
-		s.Work.Computed += synth.Work(n).PartialSamples
+		loop, looped := synth.PlanLoop(n)
+		w := synth.WorkLooped(n, loop)
+		s.Work.Computed += w.PartialSamples
+		s.Work.Nominal += w.Nominal
 		if i > 0 && plan.Notes[i-1].Key == n.Key {
 			continue
 		}
@@ -125,7 +149,7 @@ func summarize(plan *patch.Plan, p *patch.Patch) planSummary {
 		for _, part := range n.Partials {
 			row.HighestHz = max(row.HighestHz, part.Hz)
 		}
-		if loop, ok := synth.PlanLoop(n); ok {
+		if looped {
 			rate := float64(n.SampleRate)
 			row.Loop = &loopPlan{Start: float64(loop.Start) / rate, End: float64(loop.End+1) / rate, Kind: "whole cycles", PitchErrorCents: loop.Cents}
 			if loop.Crossfade > 0 {
@@ -156,8 +180,15 @@ func printPlan(w io.Writer, s *planSummary) {
 	} else {
 		fmt.Fprintf(w, "  audio:    %.1f s in all, %.2f s per file\n", s.AudioSeconds, s.FileSeconds)
 	}
-	fmt.Fprintf(w, "  bytes:    %d (%.1f MiB) into %s\n", s.Bytes, float64(s.Bytes)/(1<<20), s.OutputDir)
-	fmt.Fprintf(w, "  work:     to compute %s\n", s.Work)
+	atMost := ""
+	if s.UpperBounds {
+		atMost = "at most "
+	}
+	fmt.Fprintf(w, "  bytes:    %s%d (%.1f MiB) into %s\n", atMost, s.Bytes, float64(s.Bytes)/(1<<20), s.OutputDir)
+	fmt.Fprintf(w, "  work:     to compute %s in one render of each note\n", s.Work)
+	if s.TwoPasses {
+		fmt.Fprintf(w, "            (levelled as a whole, render renders again the notes it keeps no copy of, and reports those apart)\n")
+	}
 	fmt.Fprintf(w, "  band limit: %.0f Hz (%.3g of the sample rate), fading from %.0f Hz\n", s.BandLimitHz, s.BandLimit, s.BandFadeHz)
 	dither := "off"
 	if s.Dither {

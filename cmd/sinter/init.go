@@ -15,7 +15,7 @@ import (
 const starterPatch = `# yaml-language-server: $schema=sinter.schema.json
 # A starter patch: render it with  sinter render %[1]s.yaml
 # (audition new renders at low volume). Every key is in the README;
-# sinter schema > sinter.schema.json lets an editor check and complete it.
+# sinter.schema.json beside it lets an editor check and complete it.
 name: %[1]s
 sample_rate: 48000
 bit_depth: 24
@@ -33,29 +33,58 @@ partials:
     amplitude: -18 dB
 `
 
+// schemaFile is the schema the starter patch's first line points at;
+// init writes it beside the patch.
+const schemaFile = "sinter.schema.json"
+
 func initPatch(args []string, stdout, stderr io.Writer) int {
 	fs := flag.NewFlagSet("init", flag.ContinueOnError)
-	name, ok := parseArgs(fs, args, stderr)
+	name, code, ok := parseArgs(fs, args, stdout, stderr)
 	if !ok {
-		return exitUsage
+		return code
 	}
 	out := reporter{stdout: stdout, stderr: stderr, command: "init"}
 	if err := patch.CheckName(name); err != nil {
 		return out.fail(exitUsage, err)
 	}
 	file := name + ".yaml"
-	f, err := os.OpenFile(file, os.O_WRONLY|os.O_CREATE|os.O_EXCL, 0o644)
-	if errors.Is(err, os.ErrExist) {
-		return out.fail(exitUsage, fmt.Errorf("%s exists; init never overwrites a patch", file))
-	}
+	written, err := writeNew(file, fmt.Appendf(nil, starterPatch, name))
 	if err != nil {
 		return out.fail(exitFailure, err)
 	}
-	_, err = fmt.Fprintf(f, starterPatch, name)
+	if !written {
+		return out.fail(exitUsage, fmt.Errorf("%s exists; init never overwrites a patch", file))
+	}
+	// The first line of the patch points an editor at the schema, so it
+	// must be there; one already there is kept, whoever wrote it.
+	schemaWritten, err := writeNew(schemaFile, patch.JSONSchema())
+	if err != nil {
+		os.Remove(file)
+		return out.fail(exitFailure, err)
+	}
+	if schemaWritten {
+		fmt.Fprintf(stdout, "wrote %s and %s, the schema its first line points an editor at\n", file, schemaFile)
+	} else {
+		fmt.Fprintf(stdout, "wrote %s; kept the %s already there, which its first line points an editor at (sinter schema prints this version's)\n", file, schemaFile)
+	}
+	fmt.Fprintf(stdout, "render it with: sinter render %s\n", file)
+	return exitOK
+}
+
+// writeNew writes data to a new file; it reports false, writing nothing,
+// when the file exists.
+func writeNew(file string, data []byte) (bool, error) {
+	f, err := os.OpenFile(file, os.O_WRONLY|os.O_CREATE|os.O_EXCL, 0o644)
+	if errors.Is(err, os.ErrExist) {
+		return false, nil
+	}
+	if err != nil {
+		return false, err
+	}
+	_, err = f.Write(data)
 	if err = errors.Join(err, f.Close()); err != nil {
 		os.Remove(file)
-		return out.fail(exitFailure, fmt.Errorf("cannot write %s: %w", file, err))
+		return false, fmt.Errorf("cannot write %s: %w", file, err)
 	}
-	fmt.Fprintf(stdout, "wrote %s; render it with: sinter render %s\n", file, file)
-	return exitOK
+	return true, nil
 }

@@ -11,6 +11,7 @@ import (
 	"io"
 	"os"
 	"os/signal"
+	"path/filepath"
 	"runtime"
 	"strings"
 	"syscall"
@@ -31,41 +32,6 @@ const (
 	exitUsage   = 2 // bad command line or bad patch
 )
 
-const usage = `sinter compiles a patch of sine partials into a sampler-ready sample set.
-
-Usage:
-  sinter render PATCH.yaml [-o DIR] [--keys LIST] [--jobs N] [--quiet] [--json] [--allow-large] [--force] [--shard K/N|auto]
-      Render every root key and velocity layer into DIR (default: the
-      patch's output.dir): WAV files, an SFZ mapping and manifest.json.
-      Files the set in DIR already holds unchanged are kept, not rendered.
-  sinter merge PATCH.yaml [-o DIR] SHARD_DIR... [--json]
-      Join the folders of the shards of one set (render --shard) into DIR.
-  sinter check PATCH.yaml [--keys LIST] [--json]
-      Validate the patch and print the plan without rendering.
-
---json prints one JSON document on stdout: {"ok": true, "result": ...}, or
-{"ok": false, "errors": [{"file", "line", "column", "path", "message"}]}.
-  sinter verify DIR
-      Read a rendered set back and check every file against its manifest.
-  sinter plot PATCH.yaml [--key C4] [--velocity V] [-o FILE.png] [--width W] [--height H]
-      Draw one note: its spectrum after the band limit, the envelopes of
-      its loudest partials and one period of its waveform, as a PNG.
-  sinter init NAME
-      Write NAME.yaml, a starter patch that renders as it is.
-  sinter schema
-      Print the JSON Schema of the patch language, for editors.
-  sinter help
-      Print this text.
-  sinter --version
-      Print the version, the set of kernels in use and why it was chosen:
-      the widest the processor runs (avx512, avx2 or plain), or the one
-      SINTER_KERNEL names.
-
-LIST is a comma-separated list of keys and ranges: C4,E4 or 60-72 or C4-C5.
-
-Exit status: 0 success, 1 rendering or writing failed, 2 usage or patch error.
-`
-
 func main() {
 	os.Exit(run(os.Args[1:], os.Stdout, os.Stderr))
 }
@@ -76,66 +42,88 @@ func run(args []string, stdout, stderr io.Writer) int {
 		return exitUsage
 	}
 	if len(args) == 0 {
-		fmt.Fprint(stderr, usage)
+		fmt.Fprint(stderr, overview())
 		return exitUsage
 	}
 	switch args[0] {
 	case "help", "-h", "-help", "--help":
-		fmt.Fprint(stdout, usage)
-		return exitOK
+		return help(args[1:], stdout, stderr)
 	case "version", "-version", "--version":
 		fmt.Fprintf(stdout, "sinter %s (%s kernel: %s)\n", version, kernel.Active(), kernel.Reason())
 		return exitOK
-	case "render":
-		return render(args[1:], stdout, stderr)
-	case "check":
-		return check(args[1:], stdout, stderr)
-	case "verify":
-		return verify(args[1:], stdout, stderr)
-	case "plot":
-		return plotNote(args[1:], stdout, stderr)
-	case "init":
-		return initPatch(args[1:], stdout, stderr)
-	case "merge":
-		return merge(args[1:], stdout, stderr)
-	case "schema":
-		stdout.Write(patch.JSONSchema())
-		return exitOK
+	}
+	if cmd, ok := commandRuns[args[0]]; ok {
+		return cmd(args[1:], stdout, stderr)
 	}
 	fmt.Fprintf(stderr, "sinter: unknown command %q; run \"sinter help\" for usage\n", args[0])
 	return exitUsage
 }
 
-// parseArgs parses flags that may come before or after the one positional
-// argument, as in "sinter render patch.yaml -o out".
-func parseArgs(fs *flag.FlagSet, args []string, stderr io.Writer) (string, bool) {
-	positional, ok := parsePositional(fs, args, stderr)
+// commandRuns are the commands by name, each given its arguments.
+var commandRuns = map[string]func(args []string, stdout, stderr io.Writer) int{
+	"render": render, "check": check, "verify": verify, "plot": plotNote,
+	"init": initPatch, "merge": merge, "schema": schema,
+}
+
+func schema(args []string, stdout, stderr io.Writer) int {
+	fs := flag.NewFlagSet("schema", flag.ContinueOnError)
+	positional, code, ok := parsePositional(fs, args, stdout, stderr)
 	if !ok {
-		return "", false
+		return code
+	}
+	if len(positional) != 0 {
+		fmt.Fprintf(stderr, "sinter schema: expected no argument, got %d; run \"sinter help schema\" for usage\n", len(positional))
+		return exitUsage
+	}
+	stdout.Write(patch.JSONSchema())
+	return exitOK
+}
+
+// parseArgs parses flags that may come before or after the one positional
+// argument, as in "sinter render patch.yaml -o out". When it returns ok
+// false the command stops with the status code: help was asked for, which
+// it printed, or the arguments are wrong, which it said.
+func parseArgs(fs *flag.FlagSet, args []string, stdout, stderr io.Writer) (path string, code int, ok bool) {
+	positional, code, ok := parsePositional(fs, args, stdout, stderr)
+	if !ok {
+		return "", code, false
 	}
 	if len(positional) != 1 {
-		fmt.Fprintf(stderr, "sinter %s: expected one argument, got %d; run \"sinter help\" for usage\n", fs.Name(), len(positional))
-		return "", false
+		fmt.Fprintf(stderr, "sinter %s: expected one argument, got %d; run \"sinter help %s\" for usage\n", fs.Name(), len(positional), fs.Name())
+		return "", exitUsage, false
 	}
-	return positional[0], true
+	return positional[0], exitOK, true
 }
 
 // parsePositional parses flags placed anywhere among the positional
-// arguments, which it returns.
-func parsePositional(fs *flag.FlagSet, args []string, stderr io.Writer) ([]string, bool) {
+// arguments, which it returns; -h or --help prints the command's help.
+func parsePositional(fs *flag.FlagSet, args []string, stdout, stderr io.Writer) ([]string, int, bool) {
 	fs.SetOutput(io.Discard)
 	var positional []string
 	for {
-		if err := fs.Parse(args); err != nil {
-			fmt.Fprintf(stderr, "sinter %s: %v\n", fs.Name(), err)
-			return nil, false
+		err := fs.Parse(args)
+		if errors.Is(err, flag.ErrHelp) {
+			printHelp(stdout, fs)
+			return nil, exitOK, false
+		}
+		if err != nil {
+			fmt.Fprintf(stderr, "sinter %s: %v; run \"sinter help %s\" for usage\n", fs.Name(), err, fs.Name())
+			return nil, exitUsage, false
 		}
 		if fs.NArg() == 0 {
-			return positional, true
+			return positional, exitOK, true
 		}
 		positional = append(positional, fs.Arg(0))
 		args = fs.Args()[1:]
 	}
+}
+
+// given reports whether the flag name was on the command line, so an
+// empty value can be told from none.
+func given(fs *flag.FlagSet, name string) bool {
+	found := false
+	fs.Visit(func(f *flag.Flag) { found = found || f.Name == name })
+	return found
 }
 
 // parseKeys reads a --keys list such as "C4,E4", "60-72" or "C-1-C0".
@@ -193,46 +181,50 @@ func loadPlan(path, keyList, outDir string) (*patch.Plan, *patch.Patch, error) {
 
 // renderSummary is what render reports with --json.
 type renderSummary struct {
-	Patch      string   `json:"patch"`
-	OutputDir  string   `json:"output_dir"`
-	Files      int      `json:"files"`
-	Levelling  string   `json:"levelling"`
-	Kernel     string   `json:"kernel"`
-	Work       work     `json:"partial_samples"`
-	Rendered   int      `json:"notes_rendered"`
-	Kept       int      `json:"files_kept"`
-	Rerendered int      `json:"notes_rendered_twice"`
-	Warnings   []string `json:"warnings"`
+	Patch        string   `json:"patch"`
+	OutputDir    string   `json:"output_dir"`
+	Files        int      `json:"files"`
+	AudioSeconds float64  `json:"audio_seconds"`
+	Bytes        int64    `json:"bytes"` // of the WAV files
+	Levelling    string   `json:"levelling"`
+	Kernel       string   `json:"kernel"`
+	Work         work     `json:"partial_samples"`
+	Rendered     int      `json:"notes_rendered"`
+	Kept         int      `json:"files_kept"`
+	Rerendered   int      `json:"notes_rendered_twice"`
+	Warnings     []string `json:"warnings"`
 }
 
 func render(args []string, stdout, stderr io.Writer) int {
 	fs := flag.NewFlagSet("render", flag.ContinueOnError)
-	outDir := fs.String("o", "", "output folder, overriding the patch's output.dir")
-	keyList := fs.String("keys", "", "render only these keys")
-	jobs := fs.Int("jobs", runtime.NumCPU(), "notes rendered at once")
+	outDir := fs.String("o", "", "output folder `DIR`, overriding the patch's output.dir")
+	keyList := fs.String("keys", "", "render only the keys of `LIST`")
+	jobs := fs.Int("jobs", runtime.NumCPU(), "render `N` notes at once")
 	quiet := fs.Bool("quiet", false, "print nothing but errors")
 	asJSON := fs.Bool("json", false, "print a summary of the set, or the errors, as JSON on stdout")
 	allowLarge := fs.Bool("allow-large", false, "render sets beyond the default limits")
 	force := fs.Bool("force", false, "render every note, even those the output folder already holds")
-	shardFlag := fs.String("shard", "", "render one slice of the set: K/N, or auto from the environment")
-	path, ok := parseArgs(fs, args, stderr)
+	shardFlag := fs.String("shard", "", "render one slice of the set: `K/N` (shard K of N, from 1), or auto from the environment")
+	path, code, ok := parseArgs(fs, args, stdout, stderr)
 	if !ok {
-		return exitUsage
+		return code
 	}
 	out := reporter{json: *asJSON, stdout: stdout, stderr: stderr, command: "render"}
 	if *jobs < 1 {
 		fmt.Fprintf(stderr, "sinter render: --jobs must be 1 or more, got %d\n", *jobs)
 		return exitUsage
 	}
-	plan, _, err := loadPlan(path, *keyList, *outDir)
-	if err != nil {
-		return out.fail(exitUsage, err)
-	}
 	var shard sampleset.Shard
-	if *shardFlag != "" {
+	var err error
+	// A --shard given empty is a slip, not a request for the whole set.
+	if given(fs, "shard") {
 		if shard, err = parseShard(*shardFlag, os.Getenv); err != nil {
 			return out.fail(exitUsage, err)
 		}
+	}
+	plan, _, err := loadPlan(path, *keyList, *outDir)
+	if err != nil {
+		return out.fail(exitUsage, err)
 	}
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
 	defer stop()
@@ -256,8 +248,14 @@ func render(args []string, stdout, stderr io.Writer) int {
 	}
 	summary := renderSummary{Patch: plan.PatchFile, OutputDir: res.Dir, Files: len(res.Manifest.Files),
 		Levelling: res.Manifest.Levelling, Kernel: kernel.Active().String(),
-		Work:     work{Computed: res.Stats.PartialSamples, Nominal: res.Stats.Nominal},
+		Work:     work{Computed: res.Stats.PartialSamples, Nominal: res.Stats.Nominal, Counts: renderCounts, Again: &res.Again.PartialSamples},
 		Rendered: res.Rendered, Kept: res.Reused, Rerendered: res.Rerendered, Warnings: res.Warnings}
+	for _, f := range res.Manifest.Files {
+		summary.AudioSeconds += float64(f.Frames) / float64(f.SampleRate)
+		if info, err := os.Stat(filepath.Join(res.Dir, filepath.FromSlash(f.Path))); err == nil {
+			summary.Bytes += info.Size()
+		}
+	}
 	if out.json {
 		return out.emit(summary)
 	}
@@ -266,12 +264,16 @@ func render(args []string, stdout, stderr io.Writer) int {
 	}
 	if !*quiet {
 		if summary.Kept == 0 {
-			fmt.Fprintf(stdout, "rendered %d files into %s (levelling: %s)\n", summary.Files, summary.OutputDir, summary.Levelling)
+			fmt.Fprintf(stdout, "rendered %s into %s (levelling: %s)\n", count(summary.Files, "file"), summary.OutputDir, summary.Levelling)
 		} else {
 			fmt.Fprintf(stdout, "updated %s: %d files, %d kept unchanged, %d notes rendered (levelling: %s; --force renders all)\n",
 				summary.OutputDir, summary.Files, summary.Kept, summary.Rendered, summary.Levelling)
 		}
-		fmt.Fprintf(stdout, "computed %s\n", summary.Work)
+		fmt.Fprintf(stdout, "computed %s", summary.Work)
+		if summary.Rerendered > 0 {
+			fmt.Fprintf(stdout, ", and %.3g more to render %s a second time", float64(*summary.Work.Again), count(summary.Rerendered, "note"))
+		}
+		fmt.Fprintln(stdout)
 	}
 	return exitOK
 }
@@ -317,9 +319,9 @@ func clock(d time.Duration) string {
 
 func verify(args []string, stdout, stderr io.Writer) int {
 	fs := flag.NewFlagSet("verify", flag.ContinueOnError)
-	dir, ok := parseArgs(fs, args, stderr)
+	dir, code, ok := parseArgs(fs, args, stdout, stderr)
 	if !ok {
-		return exitUsage
+		return code
 	}
 	problems, err := sampleset.Verify(dir)
 	if err != nil {
@@ -330,9 +332,17 @@ func verify(args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "%s\n", p)
 	}
 	if len(problems) > 0 {
-		fmt.Fprintf(stderr, "sinter verify: %d problems in %s\n", len(problems), dir)
+		fmt.Fprintf(stderr, "sinter verify: %s in %s\n", count(len(problems), "problem"), dir)
 		return exitFailure
 	}
-	fmt.Fprintf(stdout, "%s: every file matches the manifest\n", dir)
+	fmt.Fprintf(stdout, "%s: every file matches the manifest, and the mapping plays each of them\n", dir)
 	return exitOK
+}
+
+// count writes n things, "1 problem" or "2 problems".
+func count(n int, thing string) string {
+	if n == 1 {
+		return "1 " + thing
+	}
+	return fmt.Sprintf("%d %ss", n, thing)
 }

@@ -5,6 +5,7 @@ import (
 	"encoding/json"
 	"fmt"
 	"image/png"
+	"math"
 	"os"
 	"path/filepath"
 	"reflect"
@@ -13,6 +14,7 @@ import (
 	"testing"
 	"time"
 
+	"sinter/patch"
 	"sinter/synth/sampleset"
 )
 
@@ -66,6 +68,14 @@ func TestExitStatuses(t *testing.T) {
 		{"render key not in patch", []string{"render", good, "--keys", "D4"}, exitUsage, "", "key D4 (62) is not one of the patch's keys"},
 		{"render bad key list", []string{"render", good, "--keys", "C4,H9"}, exitUsage, "", `"H9" is not a key`},
 		{"verify missing set", []string{"verify", t.TempDir()}, exitFailure, "", "manifest.json"},
+		{"render empty shard", []string{"render", good, "--shard", ""}, exitUsage, "", `shard "" is not K/N (shard K of N, from 1) or auto`},
+		{"render empty shard, = form", []string{"render", good, "--shard="}, exitUsage, "", `shard "" is not K/N`},
+		{"render shard without N", []string{"render", good, "--shard", "1/"}, exitUsage, "", `shard "1/" is not K/N`},
+		{"render shard without K", []string{"render", good, "--shard", "/3"}, exitUsage, "", `shard "/3" is not K/N`},
+		{"render shard 0", []string{"render", good, "--shard", "0/3"}, exitUsage, "", "shard 0 of 3 does not exist"},
+		{"check seed above 2^53", []string{"check", writePatch(t, "name: x\nseed: 9007199254740993\npartials: [{ratio: 1}]\n")}, exitUsage, "",
+			"p.yaml:2:7: seed: 9007199254740993 is out of range: expected 0..9007199254740992"},
+		{"help for a command unknown", []string{"help", "bake"}, exitUsage, "", `unknown command "bake"`},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
@@ -109,6 +119,39 @@ func TestRenderThenVerify(t *testing.T) {
 	}
 	if code, _, stderr := runCLI("verify", out); code != exitFailure || !strings.Contains(stderr, filepath.Base(names[0])) {
 		t.Fatalf("verify of a damaged set: exit %d, stderr %q", code, stderr)
+	}
+}
+
+// TestVerifyMapping: a mapping edited so that a region names a file that
+// does not exist fails verify, which names the region by its line and
+// counts its problems in words.
+func TestVerifyMapping(t *testing.T) {
+	good := writePatch(t, strings.Replace(smallPatch, "velocities: [64, 127]", "velocities: [127]", 1))
+	out := filepath.Join(t.TempDir(), "set")
+	if code, _, stderr := runCLI("render", good, "-o", out, "--quiet"); code != exitOK {
+		t.Fatalf("render: %s", stderr)
+	}
+	if code, stdout, _ := runCLI("verify", out); code != exitOK || !strings.Contains(stdout, "the mapping plays each of them") {
+		t.Fatalf("verify of a fresh set: exit %d, %q", code, stdout)
+	}
+	sfz := filepath.Join(out, "test-tone.sfz")
+	text, _ := os.ReadFile(sfz)
+	// Both regions play the C4 file: E4's is played by none.
+	edited := strings.Replace(string(text), "test-tone_064_E4_v127.wav", "test-tone_060_C4_v127.wav", 1)
+	if err := os.WriteFile(sfz, []byte(edited), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	code, _, stderr := runCLI("verify", out)
+	if code != exitFailure || !strings.Contains(stderr, "test-tone_064_E4_v127.wav: no region of test-tone.sfz plays it") || !strings.Contains(stderr, "1 problem in") {
+		t.Errorf("exit %d, stderr %q", code, stderr)
+	}
+	edited = strings.Replace(string(text), "test-tone_064_E4_v127.wav", "test-tone_064_E4_v128.wav", 1)
+	if err := os.WriteFile(sfz, []byte(edited), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	code, _, stderr = runCLI("verify", out)
+	if code != exitFailure || !strings.Contains(stderr, "test-tone.sfz:4:1: <region> plays test-tone_064_E4_v128.wav, which does not exist") || !strings.Contains(stderr, "2 problems in") {
+		t.Errorf("exit %d, stderr %q", code, stderr)
 	}
 }
 
@@ -259,7 +302,7 @@ func TestPlot(t *testing.T) {
 	good := writePatch(t, smallPatch)
 	file := filepath.Join(t.TempDir(), "tone.png")
 	code, stdout, stderr := runCLI("plot", good, "--key", "E4", "-o", file, "--width", "640", "--height", "900")
-	if code != exitOK || !strings.Contains(stdout, "drew E4, velocity 127") {
+	if code != exitOK || !strings.Contains(stdout, "drew E4, velocity 127, at its levelling gain of ") {
 		t.Fatalf("exit %d, stdout %q, stderr %q", code, stdout, stderr)
 	}
 	f, err := os.Open(file)
@@ -276,8 +319,9 @@ func TestPlot(t *testing.T) {
 	}
 }
 
-// TestInitRendersAsIs: the starter patch passes check and renders, and
-// init never overwrites a file.
+// TestInitRendersAsIs: the starter patch passes check and renders, the
+// schema its first line points at is written beside it and says so, and
+// init never overwrites a file: not a patch, not a schema.
 func TestInitRendersAsIs(t *testing.T) {
 	dir := t.TempDir()
 	wd, _ := os.Getwd()
@@ -285,8 +329,31 @@ func TestInitRendersAsIs(t *testing.T) {
 		t.Fatal(err)
 	}
 	defer os.Chdir(wd)
-	if code, _, stderr := runCLI("init", "first-pad"); code != exitOK {
+	code, stdout, stderr := runCLI("init", "first-pad")
+	if code != exitOK {
 		t.Fatalf("init: exit %d, %s", code, stderr)
+	}
+	if !strings.Contains(stdout, "wrote first-pad.yaml and sinter.schema.json") {
+		t.Errorf("init does not say it wrote the schema: %q", stdout)
+	}
+	src, _ := os.ReadFile("first-pad.yaml")
+	first, _, _ := strings.Cut(string(src), "\n")
+	target := strings.TrimPrefix(first, "# yaml-language-server: $schema=")
+	if target == first {
+		t.Fatalf("the starter patch's first line %q does not point at a schema", first)
+	}
+	if schema, err := os.ReadFile(target); err != nil || !bytes.Equal(schema, patch.JSONSchema()) {
+		t.Errorf("the schema the first line names, %s, is not this version's: %v", target, err)
+	}
+	// A schema already there is the user's: kept, and said so.
+	if err := os.WriteFile("sinter.schema.json", []byte("{}\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if code, stdout, _ := runCLI("init", "second-pad"); code != exitOK || !strings.Contains(stdout, "kept the sinter.schema.json already there") {
+		t.Errorf("init beside a schema: exit %d, %q", code, stdout)
+	}
+	if schema, _ := os.ReadFile("sinter.schema.json"); string(schema) != "{}\n" {
+		t.Errorf("init overwrote the schema already there")
 	}
 	if code, _, stderr := runCLI("render", "first-pad.yaml", "--quiet", "--keys", "C4"); code != exitOK {
 		t.Fatalf("render of the starter patch: exit %d, %s", code, stderr)
@@ -387,6 +454,14 @@ func TestShardedRenderAndMerge(t *testing.T) {
 		}
 		shards = append(shards, dir)
 	}
+	// The same folder twice, as written or spelled another way, is said to
+	// be that, not taken for a second copy of its shard.
+	for _, again := range []string{shards[0], shards[0] + "/", shards[0] + "/."} {
+		code, _, stderr := runCLI("merge", path, "-o", filepath.Join(root, "twice"), shards[0], shards[1], again, shards[2])
+		if want := fmt.Sprintf("cannot merge %s: the folder was given twice (as %s and as %s)", again, shards[0], again); code != exitFailure || !strings.Contains(stderr, want) {
+			t.Errorf("merge given %s twice: exit %d, %q; want %q", shards[0], code, stderr, want)
+		}
+	}
 	if code, stdout, stderr := runCLI(append([]string{"merge", path, "-o", filepath.Join(root, "merged")}, shards...)...); code != exitOK || !strings.Contains(stdout, "merged 3 shards") {
 		t.Fatalf("merge: exit %d, %s %s", code, stdout, stderr)
 	}
@@ -396,5 +471,172 @@ func TestShardedRenderAndMerge(t *testing.T) {
 		if len(a) == 0 || !bytes.Equal(a, b) {
 			t.Errorf("%s differs between the single render and the merge", name)
 		}
+	}
+}
+
+// TestCheckPlansWhatRenderComputes renders example patches (a few keys of
+// each, copied beside their includes) and patches for the other loop and
+// tail kinds into fresh folders, and compares check --json with render
+// --json figure by figure: files, audio seconds and bytes (exact unless
+// tails end by level, when check's are the most render may write), the
+// partial-samples computed and nominal, the levelling and the folder.
+func TestCheckPlansWhatRenderComputes(t *testing.T) {
+	if testing.Short() {
+		t.Skip("renders several sets")
+	}
+	examples := []struct{ file, keys string }{
+		{"puzzle-pad.yaml", "C3"},   // stereo, crossfade loop, round robins, loudness per key
+		{"hollow-lead.yaml", "C3"},  // whole cycles, retuned; a breakpoint envelope
+		{"harbor-bells.yaml", "G2"}, // tail by level, round robins, stereo, true peak
+		{"attic-harp.yaml", "C3"},   // tail by level, an include, one gain for the set
+		{"dust-choir.yaml", "C3"},   // moving partials, unison, crossfade loop
+	}
+	inline := map[string]string{
+		"drone.yaml": "name: drone\nkeys: [A2]\nhold: 6\ntail: 1\nloop: {crossfade: 0.2}\npartials: [{ratios: [1, 2.41, 3.7], envelope: {attack: 0.3, decay: 0.2, sustain: 0.7, release: 0.8}}]\n",
+		"cycles.yaml": "name: cycles\nkeys: [C3, G3]\nvelocities: [60, 120]\nhold: 1.5\ntail: 0.5\nloop: auto\nnormalize: {peak: -3 dBFS, scope: file}\n" +
+			"partials: [{harmonics: 16, amplitude: \"vel/n\", envelope: {attack: 0.01, decay: \"0.4/n\", sustain: \"0.5/n\", release: 0.2}}]\n",
+		"plain.yaml": "name: plain\nkeys: [C4]\nround_robin: 2\nhold: 0.5\ntail: 0.5\nnormalize: off\npartials: [{harmonics: 6, envelope: {attack: 0.001, decay: 0.3, sustain: 0, release: 0.1}}]\n",
+	}
+	dir := t.TempDir()
+	// The patches and what they include, not any set rendered beside them.
+	sources, _ := filepath.Glob("../../examples/*.yaml")
+	parts, _ := filepath.Glob("../../examples/parts/*.yaml")
+	for _, src := range append(sources, parts...) {
+		rel, _ := filepath.Rel("../../examples", src)
+		data, err := os.ReadFile(src)
+		if err == nil {
+			err = os.MkdirAll(filepath.Join(dir, filepath.Dir(rel)), 0o755)
+		}
+		if err == nil {
+			err = os.WriteFile(filepath.Join(dir, rel), data, 0o644)
+		}
+		if err != nil {
+			t.Fatal(err)
+		}
+	}
+	type run struct{ file, keys string }
+	runs := []run{}
+	for _, e := range examples {
+		runs = append(runs, run(e))
+	}
+	for name, src := range inline {
+		if err := os.WriteFile(filepath.Join(dir, name), []byte(src), 0o644); err != nil {
+			t.Fatal(err)
+		}
+		runs = append(runs, run{name, ""})
+	}
+	type report struct {
+		OK     bool `json:"ok"`
+		Result struct {
+			Files        int     `json:"files"`
+			AudioSeconds float64 `json:"audio_seconds"`
+			Bytes        int64   `json:"bytes"`
+			UpperBounds  bool    `json:"lengths_are_upper_bounds"`
+			Levelling    string  `json:"levelling"`
+			OutputDir    string  `json:"output_dir"`
+			Work         struct {
+				Computed int64  `json:"computed"`
+				Nominal  int64  `json:"nominal"`
+				Counts   string `json:"counts"`
+			} `json:"partial_samples"`
+		} `json:"result"`
+	}
+	for _, r := range runs {
+		t.Run(r.file, func(t *testing.T) {
+			path := filepath.Join(dir, r.file)
+			args := []string{path, "--json"}
+			if r.keys != "" {
+				args = append(args, "--keys", r.keys)
+			}
+			var planned, rendered report
+			code, stdout, stderr := runCLI(append([]string{"check"}, args...)...)
+			if err := json.Unmarshal([]byte(stdout), &planned); code != exitOK || err != nil {
+				t.Fatalf("check: exit %d, %v, %s", code, err, stderr)
+			}
+			code, stdout, stderr = runCLI(append([]string{"render", "--quiet"}, args...)...)
+			if err := json.Unmarshal([]byte(stdout), &rendered); code != exitOK || err != nil {
+				t.Fatalf("render: exit %d, %v, %s", code, err, stderr)
+			}
+			p, g := planned.Result, rendered.Result
+			if p.Work.Computed != g.Work.Computed || p.Work.Nominal != g.Work.Nominal {
+				t.Errorf("partial-samples: check plans %d of %d nominal, render computed %d of %d", p.Work.Computed, p.Work.Nominal, g.Work.Computed, g.Work.Nominal)
+			}
+			if p.Work.Counts == "" || g.Work.Counts == "" {
+				t.Errorf("check or render does not say what its partial-samples count")
+			}
+			if p.Files != g.Files || p.Levelling != g.Levelling || p.OutputDir != g.OutputDir {
+				t.Errorf("check plans %d files, %q, into %s; render wrote %d, %q, into %s", p.Files, p.Levelling, p.OutputDir, g.Files, g.Levelling, g.OutputDir)
+			}
+			exact := math.Abs(p.AudioSeconds-g.AudioSeconds) < 1e-9 && p.Bytes == g.Bytes
+			bounded := g.AudioSeconds <= p.AudioSeconds && g.Bytes <= p.Bytes && g.Bytes > 0
+			if p.UpperBounds && !bounded || !p.UpperBounds && !exact {
+				t.Errorf("check plans %.6f s and %d bytes (upper bounds: %v); render wrote %.6f s and %d bytes", p.AudioSeconds, p.Bytes, p.UpperBounds, g.AudioSeconds, g.Bytes)
+			}
+		})
+	}
+}
+
+// TestCommandHelp: sinter help COMMAND and sinter COMMAND --help (or -h)
+// print the same text, that command's usage, what it does, its flags, an
+// example, and the paragraphs on --json and LIST only where the command
+// takes them; no other command's usage. sinter help keeps the overview,
+// with the --json paragraph naming the commands it belongs to.
+func TestCommandHelp(t *testing.T) {
+	cases := []struct {
+		name       string
+		flags      []string // some of the flags its help must list
+		json, keys bool
+	}{
+		{"render", []string{"-o DIR", "--keys LIST", "--jobs N", "--quiet", "--json", "--allow-large", "--force", "--shard K/N"}, true, true},
+		{"check", []string{"--keys LIST", "--json"}, true, true},
+		{"merge", []string{"-o DIR", "--json"}, true, false},
+		{"verify", nil, false, false},
+		{"plot", []string{"--key C4", "--velocity V", "-o FILE.png", "--width W", "--height H"}, false, false},
+		{"init", nil, false, false},
+		{"schema", nil, false, false},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			code, viaHelp, _ := runCLI("help", c.name)
+			if code != exitOK {
+				t.Fatalf("help %s: exit %d", c.name, code)
+			}
+			for _, args := range [][]string{{c.name, "--help"}, {c.name, "-h"}} {
+				if code, out, _ := runCLI(args...); code != exitOK || out != viaHelp {
+					t.Errorf("%v: exit %d, and its text differs from sinter help %s:\n%s", args, code, c.name, out)
+				}
+			}
+			if !strings.HasPrefix(viaHelp, "Usage: sinter "+c.name) || !strings.Contains(viaHelp, "\nExample:\n  sinter "+c.name+" ") {
+				t.Errorf("no usage or example:\n%s", viaHelp)
+			}
+			for _, f := range c.flags {
+				if !strings.Contains(viaHelp, "\n  "+f+" ") {
+					t.Errorf("flag %q not listed:\n%s", f, viaHelp)
+				}
+			}
+			if got := strings.Contains(viaHelp, "--json (render, check and merge)"); got != c.json {
+				t.Errorf("the --json paragraph there: %v, want %v", got, c.json)
+			}
+			if got := strings.Contains(viaHelp, "LIST (render and check) is"); got != c.keys {
+				t.Errorf("the LIST paragraph there: %v, want %v", got, c.keys)
+			}
+			for _, other := range cases {
+				if other.name != c.name && strings.Contains(viaHelp, "sinter "+other.name+" ") {
+					t.Errorf("the help of %s mentions sinter %s:\n%s", c.name, other.name, viaHelp)
+				}
+			}
+		})
+	}
+	code, overview, _ := runCLI("help")
+	if code != exitOK {
+		t.Fatalf("help: exit %d", code)
+	}
+	for _, c := range cases {
+		if !strings.Contains(overview, "\n  sinter "+c.name) {
+			t.Errorf("the overview lacks %s", c.name)
+		}
+	}
+	if strings.Count(overview, "--json (render, check and merge) prints") != 1 || !strings.Contains(overview, "sinter help COMMAND") {
+		t.Errorf("overview:\n%s", overview)
 	}
 }

@@ -75,14 +75,14 @@ func checkShard(k, n int) (sampleset.Shard, error) {
 
 func merge(args []string, stdout, stderr io.Writer) int {
 	fs := flag.NewFlagSet("merge", flag.ContinueOnError)
-	outDir := fs.String("o", "", "folder of the merged set (default: the patch's output.dir)")
+	outDir := fs.String("o", "", "folder `DIR` of the merged set (default: the patch's output.dir)")
 	asJSON := fs.Bool("json", false, "print the result, or the errors, as JSON on stdout")
-	positional, ok := parsePositional(fs, args, stderr)
+	positional, code, ok := parsePositional(fs, args, stdout, stderr)
 	if !ok {
-		return exitUsage
+		return code
 	}
 	if len(positional) < 2 {
-		fmt.Fprintf(stderr, "sinter merge: expected the patch and the shard folders; run \"sinter help\" for usage\n")
+		fmt.Fprintf(stderr, "sinter merge: expected the patch and the shard folders; run \"sinter help merge\" for usage\n")
 		return exitUsage
 	}
 	out := reporter{json: *asJSON, stdout: stdout, stderr: stderr, command: "merge"}

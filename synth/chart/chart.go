@@ -23,9 +23,13 @@ import (
 	"sinter/synth"
 )
 
-// Options sets the picture's size in pixels; zero fields take 1200 × 1500.
+// Options sets the picture's size in pixels (zero fields take
+// 1200 × 1500) and the levelling gain the note's file gets, which puts
+// the levels on the file's own scale, full scale being 1 (0 dBFS); a Gain
+// of 0 stands for none.
 type Options struct {
 	Width, Height int
+	Gain          float64
 }
 
 // WriteFile draws note n into the PNG file path through a temporary
@@ -72,7 +76,12 @@ func Write(w io.Writer, n *patch.Note, opts Options) error {
 	if len(n.Partials) == 0 {
 		return fmt.Errorf("chart: the note at key %s has no partials below the band limit", patch.NoteName(n.Key))
 	}
-	panels := []*plot.Plot{spectrum(n), envelopes(n), period(n)}
+	gain := opts.Gain
+	if gain == 0 {
+		gain = 1
+	}
+	loop, looped := synth.PlanLoop(n)
+	panels := []*plot.Plot{spectrum(n, gain), envelopes(n, gain, markers(n, loop, looped)), period(n, gain, loop)}
 	img := vgimg.NewWith(vgimg.UseWH(vg.Length(width)/dpi*vg.Inch, vg.Length(height)/dpi*vg.Inch), vgimg.UseDPI(dpi))
 	dc := draw.New(img)
 	tiles := draw.Tiles{Rows: len(panels), Cols: 1, PadTop: vg.Points(8), PadBottom: vg.Points(8), PadLeft: vg.Points(8), PadRight: vg.Points(12), PadY: vg.Points(14)}
@@ -86,39 +95,60 @@ func Write(w io.Writer, n *patch.Note, opts Options) error {
 
 func decibels(a float64) float64 { return max(floorDB, 20*math.Log10(math.Abs(a))) }
 
-// spectrum draws each partial as a stem at its frequency, its amplitude in
-// dB, on a log frequency axis.
-func spectrum(n *patch.Note) *plot.Plot {
+// spectrum draws each partial as a stem at its frequency, its level in
+// dBFS, on a log frequency axis labelled as people read frequency.
+func spectrum(n *patch.Note, gain float64) *plot.Plot {
 	p := plot.New()
 	p.Title.Text = fmt.Sprintf("%s (%.2f Hz), velocity %d: %d partials, %d faded and %d dropped by the band limit",
 		patch.NoteName(n.Key), n.F0, n.Velocity, len(n.Partials), n.Faded, n.Dropped)
 	p.X.Label.Text = "frequency (Hz)"
-	p.Y.Label.Text = "amplitude (dB)"
-	p.X.Scale, p.X.Tick.Marker = plot.LogScale{}, plot.LogTicks{}
-	p.Y.Min, p.Y.Max = floorDB, 6
-	lowest, highest := math.Inf(1), 0.0
+	p.Y.Label.Text = "level (dBFS)"
+	p.X.Scale, p.X.Tick.Marker = plot.LogScale{}, FrequencyTicks{}
+	lowest, highest, loudest := math.Inf(1), 0.0, float64(floorDB)
 	points := make(plotter.XYs, len(n.Partials))
 	for i, part := range n.Partials {
-		points[i] = plotter.XY{X: part.Hz, Y: decibels(part.Amplitude)}
-		lowest, highest = min(lowest, part.Hz), max(highest, part.Hz)
+		points[i] = plotter.XY{X: part.Hz, Y: decibels(part.Amplitude * gain)}
+		lowest, highest, loudest = min(lowest, part.Hz), max(highest, part.Hz), max(loudest, points[i].Y)
 		stem, _ := plotter.NewLine(plotter.XYs{{X: part.Hz, Y: floorDB}, points[i]})
 		stem.Color = plotterGrey
 		p.Add(stem)
 	}
 	dots, _ := plotter.NewScatter(points)
 	dots.Radius = vg.Points(2)
-	p.Add(dots)
+	p.Add(dots, plotter.NewGrid())
 	p.X.Min, p.X.Max = lowest/1.2, highest*1.2
+	p.Y.Min, p.Y.Max = floorDB, headroom(loudest)
 	return p
 }
 
-// envelopes draws amplitude × envelope of the loudest partials over the
-// file's length.
-func envelopes(n *patch.Note) *plot.Plot {
+// headroom is the top of a level axis: 6 dB above the highest level,
+// rounded up to 6 dB, and no lower than 0 dBFS.
+func headroom(db float64) float64 { return max(0, 6*math.Ceil((db+6)/6)) }
+
+// marker is a moment of the note drawn across the envelope panel.
+type marker struct {
+	seconds float64
+	label   string
+}
+
+// markers are the note-off and, for a looped note, the loop's first and
+// last frame, in seconds.
+func markers(n *patch.Note, loop synth.Loop, looped bool) []marker {
+	rate := float64(n.SampleRate)
+	list := []marker{{float64(n.NoteOff) / rate, "note-off"}}
+	if looped {
+		list = append(list, marker{float64(loop.Start) / rate, "loop start"}, marker{float64(loop.End+1) / rate, "loop end"})
+	}
+	return list
+}
+
+// envelopes draws the level of the loudest partials over the file's
+// length, in dBFS, with the markers as labelled vertical lines.
+func envelopes(n *patch.Note, gain float64, marks []marker) *plot.Plot {
 	p := plot.New()
 	p.Title.Text = "envelopes of the loudest partials"
 	p.X.Label.Text = "time (s)"
-	p.Y.Label.Text = "amplitude"
+	p.Y.Label.Text = "level (dBFS)"
 	order := make([]int, len(n.Partials))
 	for i := range order {
 		order[i] = i
@@ -129,12 +159,14 @@ func envelopes(n *patch.Note) *plot.Plot {
 	rate := float64(n.SampleRate)
 	length, off := float64(n.Frames)/rate, float64(n.NoteOff)/rate
 	const steps = 400
+	loudest := float64(floorDB)
 	for rank, i := range order[:min(envelopeLines, len(order))] {
 		part := n.Partials[i]
 		line := make(plotter.XYs, steps+1)
 		for s := range line {
 			t := length * float64(s) / steps
-			line[s] = plotter.XY{X: t, Y: math.Abs(part.Amplitude) * synth.At(part.Envelope, t, off)}
+			line[s] = plotter.XY{X: t, Y: decibels(part.Amplitude * gain * synth.At(part.Envelope, t, off))}
+			loudest = max(loudest, line[s].Y)
 		}
 		l, _ := plotter.NewLine(line)
 		l.Color = palette[rank%len(palette)]
@@ -143,42 +175,76 @@ func envelopes(n *patch.Note) *plot.Plot {
 		p.Legend.Add(fmt.Sprintf("%.1f Hz", part.Hz), l)
 	}
 	p.Legend.Top = true
+	p.Legend.Left = true
 	p.X.Min, p.X.Max = 0, length
+	p.Y.Min, p.Y.Max = floorDB, headroom(loudest)
+	labels := plotter.XYLabels{}
+	for _, m := range marks {
+		line, _ := plotter.NewLine(plotter.XYs{{X: m.seconds, Y: p.Y.Min}, {X: m.seconds, Y: p.Y.Max}})
+		line.Color = markerGrey
+		line.Dashes = []vg.Length{vg.Points(4), vg.Points(3)}
+		p.Add(line)
+		// Labels stand at the bottom, out of the way of the lines' tops.
+		labels.XYs = append(labels.XYs, plotter.XY{X: m.seconds, Y: p.Y.Min + 0.04*(p.Y.Max-p.Y.Min)*float64(1+len(labels.XYs))})
+		labels.Labels = append(labels.Labels, " "+m.label)
+	}
+	if text, err := plotter.NewLabels(labels); err == nil && len(marks) > 0 {
+		p.Add(text)
+	}
+	p.Add(plotter.NewGrid())
 	return p
 }
 
-// period draws one period of the fundamental of the rendered note, from
-// the moment every envelope has settled (or as late as the file allows).
-func period(n *patch.Note) *plot.Plot {
-	p := plot.New()
-	p.Title.Text = "one period of the waveform"
-	p.X.Label.Text = "time (ms)"
-	p.Y.Label.Text = "sample"
-	mono := *n
-	mono.Channels = 1
-	buf := make([]float64, synth.Frames(&mono))
+// period draws one period of the fundamental of the note as its file
+// holds it — rendered with its loop, times its levelling gain, full scale
+// ±1 — from the moment every envelope has settled (or as late as the file
+// allows), with the file's peak in dBFS in the title.
+func period(n *patch.Note, gain float64, loop synth.Loop) *plot.Plot {
+	buf := make([]float64, synth.Frames(n))
 	var r synth.Renderer
-	r.Render(buf, &mono)
+	r.RenderLooped(buf, n, loop)
+	synth.Scale(buf, gain)
+	peak := synth.Peak(buf)
 	rate := float64(n.SampleRate)
 	frames := max(2, int(math.Round(rate/n.F0)))
 	settled := 0.0
 	for _, part := range n.Partials {
 		settled = max(settled, part.Envelope.Settled())
 	}
-	start := max(0, min(int(settled*rate), n.NoteOff-frames, len(buf)-frames))
-	line := make(plotter.XYs, 0, frames)
-	for i := start; i < min(len(buf), start+frames); i++ {
-		line = append(line, plotter.XY{X: 1000 * float64(i-start) / rate, Y: buf[i]})
+	start := max(0, min(int(settled*rate), n.NoteOff-frames, n.Frames-frames))
+	p := plot.New()
+	p.Title.Text = fmt.Sprintf("one period of the waveform from %.3f s; the file peaks at %.1f dBFS", float64(start)/rate, 20*math.Log10(peak))
+	if peak == 0 {
+		p.Title.Text = fmt.Sprintf("one period of the waveform from %.3f s; the file is silent", float64(start)/rate)
 	}
-	l, _ := plotter.NewLine(line)
-	l.Width = vg.Points(1.5)
-	p.Add(l, plotter.NewGrid())
+	p.X.Label.Text = "time (ms)"
+	p.Y.Label.Text = "sample (full scale ±1)"
+	for c := range n.Channels {
+		line := make(plotter.XYs, 0, frames)
+		for i := start; i < min(n.Frames, start+frames); i++ {
+			line = append(line, plotter.XY{X: 1000 * float64(i-start) / rate, Y: buf[i*n.Channels+c]})
+		}
+		l, _ := plotter.NewLine(line)
+		l.Width = vg.Points(1.5)
+		l.Color = palette[c]
+		p.Add(l)
+		if n.Channels == 2 {
+			p.Legend.Add([]string{"left", "right"}[c], l)
+		}
+	}
+	p.Legend.Top = true
+	p.Add(plotter.NewGrid())
+	// The file's own scale: ±1 is full scale, wider only for a float file
+	// that goes past it.
+	p.Y.Min, p.Y.Max = -max(1, peak), max(1, peak)
 	return p
 }
 
-// plotterGrey draws the spectrum's stems; palette the envelope lines.
+// plotterGrey draws the spectrum's stems, markerGrey the envelope panel's
+// markers, palette the envelope lines and the waveform's channels.
 var (
 	plotterGrey = color.Gray{Y: 160}
+	markerGrey  = color.Gray{Y: 90}
 	palette     = []color.Color{
 		color.RGBA{R: 0x1f, G: 0x5a, B: 0x96, A: 0xff},
 		color.RGBA{R: 0xc0, G: 0x50, B: 0x1a, A: 0xff},

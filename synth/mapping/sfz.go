@@ -1,6 +1,6 @@
 // Package mapping writes the sampler mapping of a sample set as an SFZ file,
 // the open text format in which each <region> names a sample and the keys
-// and velocities it answers.
+// and velocities it answers, and reads one back for verification.
 package mapping
 
 import (

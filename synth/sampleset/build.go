@@ -50,8 +50,9 @@ type Options struct {
 type Result struct {
 	Dir      string
 	Manifest *manifest.Manifest
-	// Stats is the oscillator work of one render of every note.
-	Stats synth.Stats
+	// Stats is the oscillator work of one render of every note rendered;
+	// Again that of the notes rendered a second time (see Rerendered).
+	Stats, Again synth.Stats
 	// Rerendered counts the notes rendered a second time because their
 	// levelling gain was only known after the whole set was measured and
 	// reading them back would have cost more than rendering them again.
@@ -264,6 +265,7 @@ func (b *build) twoPasses(ctx context.Context, jobs int, res *Result) error {
 	copy(b.gains, gains)
 	res.Warnings = append(res.Warnings, warnings...)
 	rerendered := make([]bool, len(notes))
+	again := make([]synth.Stats, len(notes))
 	err = b.each(ctx, jobs, b.own, func(w *worker, i int) error {
 		if f, ok := b.previous.file(b.keys[i], b.gains[i]); ok {
 			return b.keep(i, f)
@@ -275,11 +277,11 @@ func (b *build) twoPasses(ctx context.Context, jobs int, res *Result) error {
 			}
 			return b.finish(w, i, buf)
 		}
-		again := b.rendered[i]
+		twice := b.rendered[i]
 		stats := b.stats[i]
 		buf := b.render(w, i)
-		if again {
-			b.stats[i] = stats
+		if twice {
+			again[i], b.stats[i] = b.stats[i], stats
 			rerendered[i] = true
 		}
 		return b.finish(w, i, buf)
@@ -287,9 +289,11 @@ func (b *build) twoPasses(ctx context.Context, jobs int, res *Result) error {
 	if err != nil {
 		return err
 	}
-	for _, r := range rerendered {
+	for i, r := range rerendered {
 		if r {
 			res.Rerendered++
+			res.Again.PartialSamples += again[i].PartialSamples
+			res.Again.Nominal += again[i].Nominal
 		}
 	}
 	return kept.remove()

@@ -730,3 +730,109 @@ func TestShardsMergeToASingleRender(t *testing.T) {
 		})
 	}
 }
+
+// TestVerifyChecksMapping edits a fresh set's mapping one way per case, as
+// a person or a tool might, and expects Verify to report exactly what a
+// sampler opening it would miss: regions whose sample is missing, outside
+// the set's folder or not in the manifest, by their line in the mapping,
+// and files no region plays. Sample paths are relative to the mapping's
+// folder, with '/' or '\' between folders (sfzformat.com, "sample").
+func TestVerifyChecksMapping(t *testing.T) {
+	const first = "sample=tiny_060_C4_v064.wav"
+	unplayed := "tiny_060_C4_v064.wav: no region of tiny.sfz plays it"
+	cases := []struct {
+		name  string
+		edit  func(sfz, dir string) string
+		wants []string
+	}{
+		{"unchanged", func(sfz, _ string) string { return sfz }, nil},
+		{"folders written the Windows way", func(sfz, _ string) string {
+			return strings.Replace(sfz, first, `sample=.\tiny_060_C4_v064.wav`, 1)
+		}, nil},
+		{"a sample that does not exist", func(sfz, _ string) string {
+			return strings.Replace(sfz, first, "sample=tiny_060_C4_v065.wav", 1)
+		}, []string{"tiny.sfz:3:1: <region> plays tiny_060_C4_v065.wav, which does not exist and which the manifest does not list", unplayed}},
+		{"a sample outside the folder", func(sfz, _ string) string {
+			return strings.Replace(sfz, first, "sample=../set/tiny_060_C4_v064.wav", 1)
+		}, []string{"tiny.sfz:3:1: <region> plays ../set/tiny_060_C4_v064.wav, outside the set's folder", unplayed}},
+		{"an absolute path", func(sfz, _ string) string {
+			return strings.Replace(sfz, first, "sample=/tmp/tiny_060_C4_v064.wav", 1)
+		}, []string{"tiny.sfz:3:1: <region> plays /tmp/tiny_060_C4_v064.wav, outside the set's folder", unplayed}},
+		{"a drive", func(sfz, _ string) string {
+			return strings.Replace(sfz, first, `sample=C:\set\tiny_060_C4_v064.wav`, 1)
+		}, []string{`tiny.sfz:3:1: <region> plays C:\set\tiny_060_C4_v064.wav, outside the set's folder`, unplayed}},
+		{"a sample the manifest does not list", func(sfz, dir string) string {
+			os.Mkdir(filepath.Join(dir, "more"), 0o755)
+			os.WriteFile(filepath.Join(dir, "more", "x.wav"), []byte("RIFF"), 0o644)
+			return strings.Replace(sfz, first, "sample=more/x.wav", 1)
+		}, []string{"tiny.sfz:3:1: <region> plays more/x.wav, which the manifest does not list", unplayed}},
+		{"a region without a sample", func(sfz, _ string) string {
+			return strings.Replace(sfz, first+" ", "", 1)
+		}, []string{"tiny.sfz:3:1: <region> has no sample", unplayed}},
+		{"a region taken out", func(sfz, _ string) string {
+			lines := strings.Split(sfz, "\n")
+			return strings.Join(append(lines[:5:5], lines[6:]...), "\n")
+		}, []string{"tiny_068_Gs4_v127.wav: no region of tiny.sfz plays it"}},
+		{"a mapping verify cannot read", func(sfz, _ string) string {
+			return sfz + "#include \"more.sfz\"\n"
+		}, []string{`tiny.sfz:7:1: the preprocessor line "#include \"more.sfz\"" cannot be checked; write the mapping out without it`}},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			dir := filepath.Join(t.TempDir(), "set")
+			build(t, newPlan(t, patchSource(16, 1, ""), dir), 2)
+			file := filepath.Join(dir, "tiny.sfz")
+			sfz, err := os.ReadFile(file)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if !strings.Contains(string(sfz), first+" ") || !strings.HasPrefix(strings.Split(string(sfz), "\n")[2], "<region> "+first) {
+				t.Fatalf("the mapping is not laid out as the cases expect:\n%s", sfz)
+			}
+			if err := os.WriteFile(file, []byte(c.edit(string(sfz), dir)), 0o644); err != nil {
+				t.Fatal(err)
+			}
+			problems, err := sampleset.Verify(dir)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if !slices.Equal(problems, c.wants) {
+				t.Errorf("Verify reports\n  %q\nwant\n  %q", problems, c.wants)
+			}
+		})
+	}
+}
+
+// TestGainMatchesBuild: Gain, which renders and measures only a note's
+// scope, gives each note the gain Build wrote into the manifest, for each
+// measure and scope and when the ceiling lowers the gain.
+func TestGainMatchesBuild(t *testing.T) {
+	for _, extra := range []string{
+		"normalize: off",
+		"normalize: {peak: -1 dBFS}",
+		"normalize: {peak: -1 dBFS, scope: key}",
+		"normalize: {loudness: -14 LUFS, scope: file}",
+		"normalize: {loudness: -6 LUFS, ceiling: -3 dBTP}", // the ceiling lowers the set's gain
+	} {
+		t.Run(extra, func(t *testing.T) {
+			dir := filepath.Join(t.TempDir(), "set")
+			plan := newPlan(t, patchSource(24, 1, extra), dir)
+			res, err := sampleset.Build(context.Background(), plan, sampleset.Options{Jobs: 2, Version: "test"})
+			if err != nil {
+				t.Fatal(err)
+			}
+			if strings.Contains(extra, "ceiling") && len(res.Warnings) == 0 {
+				t.Errorf("the ceiling does not lower the gain; the case tests nothing")
+			}
+			for i, f := range res.Manifest.Files {
+				gain, err := sampleset.Gain(context.Background(), plan, i, 2)
+				if err != nil {
+					t.Fatal(err)
+				}
+				if got := 20 * math.Log10(gain); math.Abs(got-f.GainDB) > 1e-9 {
+					t.Errorf("%s: Gain says %.12f dB, Build applied %.12f dB", f.Path, got, f.GainDB)
+				}
+			}
+		})
+	}
+}

@@ -1,11 +1,13 @@
 package sampleset
 
 import (
+	"context"
 	"fmt"
 	"math"
 	"strings"
 
 	"sinter/patch"
+	"sinter/synth"
 )
 
 // levels are the measurements of one file.
@@ -109,4 +111,41 @@ func measured(m patch.Measure, l levels) float64 {
 		return l.loudness
 	}
 	return decibels(l.peak)
+}
+
+// Gain returns the levelling gain Build gives note i of plan, without
+// writing anything: it renders and measures the notes that share the
+// note's scope — every note for one gain per set, the key's notes for one
+// per key, the note alone for one per file — as Build's first pass does,
+// on jobs goroutines, and levels them with the ceiling as Build does.
+func Gain(ctx context.Context, plan *patch.Plan, i, jobs int) (float64, error) {
+	norm := plan.Normalize
+	if norm.Measure == patch.MeasureOff {
+		return 1, nil
+	}
+	var scope []patch.Note
+	at := 0
+	for j, n := range plan.Notes {
+		if norm.Scope == patch.ScopeSet || norm.Scope == patch.ScopeKey && n.Key == plan.Notes[i].Key || j == i {
+			if j == i {
+				at = len(scope)
+			}
+			scope = append(scope, n)
+		}
+	}
+	truePeak, loud := needs(norm)
+	lv := make([]levels, len(scope))
+	err := forEach(ctx, max(1, jobs), len(scope), func(w *worker, k int) error {
+		loop, _ := synth.PlanLoop(&scope[k])
+		lv[k] = w.measure(w.render(&scope[k], loop), &scope[k], truePeak, loud)
+		return nil
+	})
+	if err != nil {
+		return 0, err
+	}
+	gains, _, err := levelGains(norm, scope, lv)
+	if err != nil {
+		return 0, err
+	}
+	return gains[at], nil
 }

@@ -16,14 +16,20 @@ type Estimate struct {
 	PartialSamples int64   // nominal: partials × frames, before skipping silence
 }
 
-// EstimatePlan adds up what plan will produce.
+// EstimatePlan adds up what plan will produce. Its partial-samples leave
+// out the continuation of crossfade loops (see synth.WorkLooped), which
+// would need every note's loop planned.
 func EstimatePlan(plan *patch.Plan) Estimate {
 	e := Estimate{Files: len(plan.Notes)}
 	for i := range plan.Notes {
 		n := &plan.Notes[i]
 		e.AudioSeconds += float64(n.Frames) / float64(n.SampleRate)
+		sampler := &wav.Sampler{}
+		if n.Loop.Mode != patch.LoopOff {
+			sampler.Loops = make([]wav.Loop, 1) // every looped note gets one loop
+		}
 		e.Bytes += wav.Size(n.Frames, wav.Options{SampleRate: n.SampleRate, BitDepth: plan.BitDepth, Channels: n.Channels,
-			Sampler: &wav.Sampler{}, Instrument: &wav.Instrument{}})
+			Sampler: sampler, Instrument: &wav.Instrument{}})
 		e.PartialSamples += synth.Work(n).Nominal
 	}
 	return e

@@ -68,7 +68,18 @@ func Merge(ctx context.Context, plan *patch.Plan, dir string, shards []string, v
 	from := make([]string, len(notes))
 	seen := map[int]string{}
 	count := 0
-	for _, shardDir := range shards {
+	folders := make([]os.FileInfo, len(shards))
+	for k, shardDir := range shards {
+		// The same folder twice, however it is written, would read as a
+		// doubled shard; say what happened instead.
+		if info, err := os.Stat(shardDir); err == nil {
+			for j, before := range folders[:k] {
+				if before != nil && os.SameFile(before, info) {
+					return fmt.Errorf("cannot merge %s: the folder was given twice (as %s and as %s)", shardDir, shards[j], shardDir)
+				}
+			}
+			folders[k] = info
+		}
 		m, err := manifest.Read(filepath.Join(shardDir, manifest.FileName))
 		if err != nil {
 			return fmt.Errorf("cannot merge %s: %w", shardDir, err)

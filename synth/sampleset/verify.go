@@ -4,21 +4,26 @@ import (
 	"bytes"
 	"crypto/sha256"
 	"encoding/hex"
+	"errors"
 	"fmt"
 	"os"
+	"path"
 	"path/filepath"
 	"strings"
 
 	goaudio "github.com/go-audio/wav"
 
 	"sinter/synth/manifest"
+	"sinter/synth/mapping"
 	"sinter/synth/wav"
 )
 
 // Verify reads the set in dir back and checks every file against
 // manifest.json: that it exists, its SHA-256, its format and length, and its
-// smpl (root key, loop) and inst (key and velocity range) metadata; that the mapping file exists (a shard has none until merged); and that no WAV file
-// is there that the manifest does not list. The format is read twice, by
+// smpl (root key, loop) and inst (key and velocity range) metadata; that
+// the mapping plays the set (see checkMapping; a shard has no mapping
+// until merged); and that no WAV file is there that the manifest does not
+// list. The format is read twice, by
 // sinter's own parser and by go-audio/wav's decoder, an independent reader.
 // It returns one line per problem; none means the set is complete.
 func Verify(dir string) ([]string, error) {
@@ -28,8 +33,8 @@ func Verify(dir string) ([]string, error) {
 	}
 	var problems []string
 	report := func(format string, args ...any) { problems = append(problems, fmt.Sprintf(format, args...)) }
-	if _, err := os.Stat(filepath.Join(dir, filepath.FromSlash(m.Mapping))); err != nil && m.Shard == nil {
-		report("%s: the mapping file is missing", m.Mapping)
+	if m.Shard == nil {
+		problems = append(problems, checkMapping(dir, m)...)
 	}
 	listed := map[string]bool{}
 	for _, f := range m.Files {
@@ -108,4 +113,68 @@ func checkFile(data []byte, f manifest.File) []string {
 		mismatch("smpl unity note (go-audio/wav)", int(dec.Metadata.SamplerInfo.MIDIUnityNote), f.Key)
 	}
 	return problems
+}
+
+// checkMapping reads the set's SFZ mapping as a sampler would and reports
+// each region whose sample is missing, lies outside the set's folder or
+// is not in the manifest, naming the region by its place in the mapping,
+// and each file of the manifest that no region plays.
+func checkMapping(dir string, m *manifest.Manifest) []string {
+	file := filepath.Join(dir, filepath.FromSlash(m.Mapping))
+	f, err := os.Open(file)
+	if err != nil {
+		return []string{fmt.Sprintf("%s: the mapping file is missing", m.Mapping)}
+	}
+	defer f.Close()
+	regions, err := mapping.ReadSFZ(f)
+	var place *mapping.ReadError
+	switch {
+	case errors.As(err, &place):
+		return []string{fmt.Sprintf("%s:%d:%d: %s", m.Mapping, place.Line, place.Column, place.Msg)}
+	case err != nil:
+		return []string{fmt.Sprintf("%s: cannot read: %v", m.Mapping, err)}
+	}
+	listed := map[string]bool{}
+	for _, f := range m.Files {
+		listed[f.Path] = true
+	}
+	played := map[string]bool{}
+	var problems []string
+	for _, r := range regions {
+		at := fmt.Sprintf("%s:%d:%d: <region>", m.Mapping, r.Line, r.Column)
+		if r.Sample == "" {
+			problems = append(problems, at+" has no sample")
+			continue
+		}
+		// SFZ paths are relative to the mapping's folder, with '/' or '\'
+		// between folders (sfzformat.com, "sample").
+		sample := strings.ReplaceAll(r.Sample, "\\", "/")
+		rel := path.Clean(path.Join(path.Dir(m.Mapping), sample))
+		if strings.HasPrefix(sample, "/") || drive(sample) || rel == ".." || strings.HasPrefix(rel, "../") {
+			problems = append(problems, fmt.Sprintf("%s plays %s, outside the set's folder", at, r.Sample))
+			continue
+		}
+		played[rel] = true
+		var why []string
+		if _, err := os.Stat(filepath.Join(dir, filepath.FromSlash(rel))); err != nil {
+			why = append(why, "which does not exist")
+		}
+		if !listed[rel] {
+			why = append(why, "which the manifest does not list")
+		}
+		if why != nil {
+			problems = append(problems, fmt.Sprintf("%s plays %s, %s", at, r.Sample, strings.Join(why, " and ")))
+		}
+	}
+	for _, f := range m.Files {
+		if !played[f.Path] {
+			problems = append(problems, fmt.Sprintf("%s: no region of %s plays it", f.Path, m.Mapping))
+		}
+	}
+	return problems
+}
+
+// drive reports whether a path starts with a Windows drive, such as C:.
+func drive(p string) bool {
+	return len(p) >= 2 && p[1] == ':' && (p[0]|0x20 >= 'a' && p[0]|0x20 <= 'z')
 }
