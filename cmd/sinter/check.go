@@ -173,7 +173,7 @@ func printPlan(w io.Writer, s *planSummary) {
 		format = "32-bit float"
 	}
 	fmt.Fprintf(w, "patch %s (%s)\n", s.Name, s.Patch)
-	fmt.Fprintf(w, "  files:    %d (%d keys x %d velocity layers x %d round robins)\n", s.Files, s.Keys, s.Layers, s.RoundRobins)
+	fmt.Fprintf(w, "  files:    %d (%s x %s x %s)\n", s.Files, count(s.Keys, "key"), count(s.Layers, "velocity layer"), count(s.RoundRobins, "round robin"))
 	fmt.Fprintf(w, "  format:   %d Hz, %s, %s\n", s.SampleRate, format, channels)
 	if s.TailUntilDB != 0 {
 		fmt.Fprintf(w, "  audio:    at most %.1f s in all; each tail ends when the level stays below %.0f dBFS\n", s.AudioSeconds, s.TailUntilDB)

@@ -59,7 +59,7 @@ func TestExitStatuses(t *testing.T) {
 		{"help", []string{"help"}, exitOK, "sinter render PATCH.yaml", ""},
 		{"version", []string{"--version"}, exitOK, "sinter " + version, ""},
 		{"unknown command", []string{"bake"}, exitUsage, "", `unknown command "bake"`},
-		{"check good", []string{"check", good}, exitOK, "4 (2 keys x 2 velocity layers x 1 round robins)", ""},
+		{"check good", []string{"check", good}, exitOK, "4 (2 keys x 2 velocity layers x 1 round robin)", ""},
 		{"check bad patch", []string{"check", bad}, exitUsage, "", `p.yaml:2:1: sampel_rate: unknown key "sampel_rate" (did you mean "sample_rate"?)`},
 		{"check missing file", []string{"check", filepath.Join(t.TempDir(), "none.yaml")}, exitUsage, "", "cannot read the patch"},
 		{"render two patches", []string{"render", good, good}, exitUsage, "", "expected one argument, got 2"},
