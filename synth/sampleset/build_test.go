@@ -20,6 +20,7 @@ import (
 
 	"sinter/patch"
 	"sinter/synth"
+	"sinter/synth/kernel"
 	"sinter/synth/sampleset"
 )
 
@@ -484,6 +485,50 @@ func TestBuildJobsBitIdentical(t *testing.T) {
 		for name, sum := range first {
 			if set[name] != sum {
 				t.Errorf("%s differs between Jobs 1 and Jobs %d", name, jobs)
+			}
+		}
+	}
+}
+
+// TestBuildEveryKernelBitIdentical: every set of kernels this processor
+// runs writes the same files, byte for byte, for a stereo, dithered set
+// with moving partials, levelled by true peak and by loudness, so the
+// meters' kernels decide the gains too.
+func TestBuildEveryKernelBitIdentical(t *testing.T) {
+	root := t.TempDir()
+	for _, measure := range []string{"{true_peak: -1 dBTP}", "{loudness: -20 LUFS}"} {
+		src := `name: kernels
+sample_rate: 44100
+channels: 2
+keys: [40, 76]
+velocities: [90]
+hold: 0.4
+tail: 0.2
+normalize: ` + measure + `
+partials:
+  - harmonics: 24
+    amplitude: "1/n"
+    pan: {rule: alternate, width: 0.6}
+    envelope: {attack: 0.01, decay: 0.1, sustain: 0.6, release: 0.15}
+  - ratios: [2.76, 5.4]
+    vibrato: {rate: 5, depth: 30}
+    envelope: {attack: 0.05, decay: 0.2, sustain: 0.5, release: 0.1}
+`
+		var first map[string]string
+		for _, isa := range kernel.Supported() {
+			previous := kernel.Use(isa)
+			dir := filepath.Join(root, isa.String()+strconv.Itoa(len(measure)))
+			build(t, newPlan(t, src, dir), 2)
+			kernel.Use(previous)
+			set := snapshot(t, dir)
+			if first == nil {
+				first = set
+				continue
+			}
+			for name, sum := range first {
+				if set[name] != sum {
+					t.Errorf("normalize %s: %s differs between the plain and %s kernels", measure, name, isa)
+				}
 			}
 		}
 	}
