@@ -7,3 +7,7 @@ package kernel
 func addResonators(_ ISA, block *[BlockFrames]float64, jobs []ResonatorJob, tables []ResonatorTable) {
 	addResonatorsGo(block, jobs, tables)
 }
+
+func kWeight(_ ISA, x []float64, channels int, f *KWeighting, st *KState, energy *[2]float64) {
+	kWeightGo(x, channels, f, st, energy)
+}

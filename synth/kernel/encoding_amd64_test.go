@@ -47,7 +47,7 @@ func TestAssemblyEncodings(t *testing.T) {
 		t.Fatalf("objdump: %v", err)
 	}
 	functions := disassembly(string(out))
-	for _, name := range []string{"addResonatorsAVX2", "addResonatorsAVX512"} {
+	for _, name := range []string{"addResonatorsAVX2", "addResonatorsAVX512", "kWeightMonoAVX2", "kWeightStereoAVX2"} {
 		if functions[name] == nil {
 			t.Errorf("%s is not in the disassembly", name)
 		}
