@@ -11,3 +11,7 @@ func addResonators(_ ISA, block *[BlockFrames]float64, jobs []ResonatorJob, tabl
 func kWeight(_ ISA, x []float64, channels int, f *KWeighting, st *KState, energy *[2]float64) {
 	kWeightGo(x, channels, f, st, energy)
 }
+
+func deinterleave(_ ISA, left, right, stereo []float64) { deinterleaveGo(left, right, stereo) }
+
+func peakOf(_ ISA, x []float64, peak float64) float64 { return peakGo(x, peak) }

@@ -47,7 +47,11 @@ func TestAssemblyEncodings(t *testing.T) {
 		t.Fatalf("objdump: %v", err)
 	}
 	functions := disassembly(string(out))
-	for _, name := range []string{"addResonatorsAVX2", "addResonatorsAVX512", "kWeightMonoAVX2", "kWeightStereoAVX2"} {
+	for _, name := range []string{
+		"addResonatorsAVX2", "addResonatorsAVX512", "kWeightMonoAVX2", "kWeightStereoAVX2",
+		"deinterleaveAVX2", "deinterleaveAVX512", "spreadAVX2", "spreadAVX512", "midpointsAVX2", "midpointsAVX512",
+		"quadruplePeakAVX2", "quadruplePeakAVX512", "peakAVX2", "peakAVX512",
+	} {
 		if functions[name] == nil {
 			t.Errorf("%s is not in the disassembly", name)
 		}

@@ -10,9 +10,10 @@ import (
 
 // kernelPackage is the kernel package as go/types sees it: its Go files
 // only, so the layouts below can be read even while its assembly is out
-// of date.
+// of date, type-checked from source so that unexported constants, which
+// compiled export data leaves out, are there too.
 var kernelPackage = func() *types.Package {
-	pkgs, err := packages.Load(&packages.Config{Mode: packages.NeedTypes | packages.NeedTypesSizes}, "sinter/synth/kernel")
+	pkgs, err := packages.Load(&packages.Config{Mode: packages.NeedTypes | packages.NeedTypesSizes | packages.NeedSyntax}, "sinter/synth/kernel")
 	if err != nil {
 		panic(err)
 	}

@@ -33,6 +33,7 @@ import (
 var families = map[string]func(){
 	"kweighting": kweighting,
 	"resonator":  resonator,
+	"truepeak":   truepeak,
 }
 
 func main() {
