@@ -57,11 +57,17 @@
 // of its amplitude with oversampling L. Because the samples themselves
 // are points of the grid, the reading is never below the sample peak. The
 // signal is taken as zero outside the buffer, so a buffer that starts or
-// stops abruptly reads the ringing of that edge. Built with
-// GOEXPERIMENT=simd on a processor with AVX-512, the 4× interpolator runs
-// eight intervals per vector (truepeak_simd.go); it adds the same products
-// in another order, so its readings agree with the plain build's to
-// within 1e-14.
+// stops abruptly reads the ringing of that edge.
+//
+// Both doublings run as package kernel's Oversampler, which on AVX2 and
+// AVX-512 processors lays eight stretches of a channel side by side in
+// the lanes of its vectors, with the same reading whichever set of kernels
+// runs. No interpolated point exceeds the largest sample it is made from
+// times the interpolator's gain bound (per doubling, the sum of its taps'
+// magnitudes), so a stretch of the buffer whose largest sample times that
+// bound cannot beat the peak found so far is not interpolated. That cannot
+// change the reading, and the quiet tail of a decaying note costs little
+// more than reading it. NaN samples are passed over.
 package loudness
 
 import (
@@ -98,9 +104,13 @@ type Meter struct {
 	hopEnergy []float64
 
 	oversampling int // 4, 2 or 1 (sample peak)
-	// chunk holds a stretch of one channel with its context, and doubled
-	// that stretch at twice the rate.
-	chunk, doubled []float64
+	// gainBound bounds the interpolated points against the samples.
+	gainBound float64
+	// chunks hold a stretch of each channel with its context, and
+	// chunkViews the stretches a call measures.
+	chunks      [maxChannels][]float64
+	chunkViews  [maxChannels][]float64
+	oversampler *kernel.Oversampler
 }
 
 // maxChannels is the largest channel count a Meter accepts. Both front
@@ -131,8 +141,11 @@ func NewMeter(channels, sampleRate int) *Meter {
 		m.oversampling = 1
 	}
 	if m.oversampling > 1 {
-		m.chunk = make([]float64, chunkFrames+2*channelPad)
-		m.doubled = make([]float64, doubledLen(len(m.chunk)))
+		m.gainBound = gainBound(m.oversampling)
+		for c := range channels {
+			m.chunks[c] = make([]float64, chunkFrames+2*channelPad)
+		}
+		m.oversampler = kernel.NewOversampler(firstTaps, secondTaps, chunkFrames+2*channelPad)
 	}
 	return m
 }

@@ -3,6 +3,7 @@ package loudness_test
 import (
 	"fmt"
 	"math"
+	"math/rand/v2"
 	"testing"
 
 	"sinter/synth/kernel"
@@ -215,4 +216,33 @@ func BenchmarkIntegrated(b *testing.B) {
 
 func BenchmarkTruePeak(b *testing.B) {
 	benchmarkMeter(b, (*loudness.Meter).TruePeak)
+}
+
+// TestIntegratedSameBitsEverySet measures the same buffers with every set
+// of kernels this processor has and requires the plain form's reading bit
+// for bit, mono and stereo, at several rates and lengths, with a silent
+// stretch in the middle that the meter skips.
+func TestIntegratedSameBitsEverySet(t *testing.T) {
+	rng := rand.New(rand.NewPCG(5, 6))
+	for _, c := range []struct{ channels, rate int }{{1, 48000}, {2, 44100}, {2, 96000}} {
+		m := loudness.NewMeter(c.channels, c.rate)
+		for _, seconds := range []float64{0.05, 0.4, 1.3, 5} {
+			frames := int(seconds * float64(c.rate))
+			x := make([]float64, c.channels*frames)
+			for i := range x {
+				if n := i / c.channels; n < frames/3 || n > frames/2 {
+					x[i] = 0.5*(rng.Float64()*2-1) + 0.3*math.Sin(0.01*float64(n))
+				}
+			}
+			previous := kernel.Use(kernel.Plain)
+			want := m.Integrated(x)
+			for _, isa := range kernel.Supported() {
+				kernel.Use(isa)
+				if got := m.Integrated(x); math.Float64bits(got) != math.Float64bits(want) {
+					t.Errorf("%d ch, %d Hz, %g s, %s: %.17g LUFS, the plain form reads %.17g", c.channels, c.rate, seconds, isa, got, want)
+				}
+			}
+			kernel.Use(previous)
+		}
+	}
 }
