@@ -46,7 +46,9 @@ func withBurst(channels, frames, start int, burst []float64) []float64 {
 // TestSkippedChunksKeepTheReading measures decaying notes, whose quiet
 // stretches the meter skips, with the skip and with it switched off (an
 // infinite gain bound never lets a stretch pass), and requires the same
-// bits: skipping only ever passes over points that cannot be the peak.
+// bits. Source: the definition of a maximum, which leaving out values no
+// larger than it cannot change; what this checks is that the skip leaves
+// out nothing larger.
 func TestSkippedChunksKeepTheReading(t *testing.T) {
 	for _, c := range []struct{ channels, rate int }{{1, 48000}, {2, 44100}, {2, 96000}} {
 		frames := 3 * c.rate

@@ -176,7 +176,7 @@ func TestTruePeakSameBitsEverySet(t *testing.T) {
 		{1, 48000}, {2, 44100}, {1, 88200}, {2, 96000}, {1, 176400}, {2, 192000},
 	} {
 		m := loudness.NewMeter(c.channels, c.rate)
-		for _, frames := range []int{1, 7, 8, 31, 32, 38, 39, 70, 71, 100, 4095, 4096, 4097, 4096 + 38, 2*4096 + 7, 48000 + 13} {
+		for _, frames := range []int{1, 7, 8, 31, 32, 38, 39, 50, 70, 71, 100, 4095, 4096, 4097, 4096 + 38, 2*4096 + 7, 3*4096 + 7, 9000, 10000, 48000 + 13} {
 			x := make([]float64, c.channels*frames)
 			for i := range x {
 				n := float64(i / c.channels)
