@@ -90,3 +90,63 @@ func packFloat32(isa ISA, dst []byte, src []float64) {
 		packFloat32Go(dst[4*n:], src[n:])
 	}
 }
+
+func kWeight(isa ISA, x []float64, channels int, f *KWeighting, st *KState, energy *[2]float64) {
+	if isa == Plain {
+		kWeightGo(x, channels, f, st, energy)
+		return
+	}
+	// AVX-512 processors run the AVX2 form (see KWeight).
+	if channels == 1 {
+		kWeightMonoAVX2(&x[0], len(x), f, st, energy)
+	} else {
+		kWeightStereoAVX2(&x[0], len(x)/2, f, st, energy)
+	}
+}
+
+func deinterleave(isa ISA, left, right, stereo []float64) {
+	switch isa {
+	case AVX512:
+		deinterleaveAVX512(&left[0], &right[0], &stereo[0], len(left))
+	case AVX2:
+		deinterleaveAVX2(&left[0], &right[0], &stereo[0], len(left))
+	default:
+		deinterleaveGo(left, right, stereo)
+	}
+}
+
+// The stretches laid side by side are the vector forms' alone (the plain
+// form works in the signal's order), so these choose between them only.
+
+func spreadRows(isa ISA, lanes, x []float64, starts *[Lanes]int, rows int) {
+	if isa == AVX512 {
+		spreadAVX512(&lanes[0], &x[0], starts, rows)
+	} else {
+		spreadAVX2(&lanes[0], &x[0], starts, rows)
+	}
+}
+
+func midpoints(isa ISA, mid, lanes []float64, f *interpolator, rows int) {
+	if isa == AVX512 {
+		midpointsAVX512(&mid[0], &lanes[0], f, rows)
+	} else {
+		midpointsAVX2(&mid[0], &lanes[0], f, rows)
+	}
+}
+
+func quadruplePeak(isa ISA, s, m []float64, f *interpolator, rows int, peak float64) float64 {
+	if isa == AVX512 {
+		return quadruplePeakAVX512(&s[0], &m[0], f, rows, peak)
+	}
+	return quadruplePeakAVX2(&s[0], &m[0], f, rows, peak)
+}
+
+func peakOf(isa ISA, x []float64, peak float64) float64 {
+	switch isa {
+	case AVX512:
+		return peakAVX512(&x[0], len(x), peak)
+	case AVX2:
+		return peakAVX2(&x[0], len(x), peak)
+	}
+	return peakGo(x, peak)
+}

@@ -19,3 +19,11 @@ func packPCM(_ ISA, dst []byte, src []float64, bits int, dither bool, state uint
 func packFloat32(_ ISA, dst []byte, src []float64) {
 	packFloat32Go(dst, src)
 }
+
+func kWeight(_ ISA, x []float64, channels int, f *KWeighting, st *KState, energy *[2]float64) {
+	kWeightGo(x, channels, f, st, energy)
+}
+
+func deinterleave(_ ISA, left, right, stereo []float64) { deinterleaveGo(left, right, stereo) }
+
+func peakOf(_ ISA, x []float64, peak float64) float64 { return peakGo(x, peak) }

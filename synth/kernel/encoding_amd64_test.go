@@ -52,6 +52,9 @@ func TestAssemblyEncodings(t *testing.T) {
 		"packPCM16AVX2", "packPCM16AVX512", "packPCM16DitherAVX2", "packPCM16DitherAVX512",
 		"packPCM24AVX2", "packPCM24AVX512", "packPCM24DitherAVX2", "packPCM24DitherAVX512",
 		"packFloat32AVX2", "packFloat32AVX512",
+		"kWeightMonoAVX2", "kWeightStereoAVX2",
+		"deinterleaveAVX2", "deinterleaveAVX512", "spreadAVX2", "spreadAVX512", "midpointsAVX2", "midpointsAVX512",
+		"quadruplePeakAVX2", "quadruplePeakAVX512", "peakAVX2", "peakAVX512",
 	} {
 		if functions[name] == nil {
 			t.Errorf("%s is not in the disassembly", name)

@@ -1,6 +1,10 @@
 package loudness
 
-import "math"
+import (
+	"math"
+
+	"sinter/synth/kernel"
+)
 
 // biquad holds the coefficients of H(z) = (b0 + b1·z⁻¹ + b2·z⁻²) /
 // (1 + a1·z⁻¹ + a2·z⁻²).
@@ -10,13 +14,6 @@ type biquad struct{ b0, b1, b2, a1, a2 float64 }
 // shelf (the head's acoustic effect) followed by the RLB high-pass.
 type kWeighting struct {
 	shelf, highPass biquad
-}
-
-// kState is one channel's filter memory: the last two inputs of the shelf
-// (x), its last two outputs, which are also the high-pass inputs (y), and
-// the last two high-pass outputs (z).
-type kState struct {
-	x1, x2, y1, y2, z1, z2 float64
 }
 
 // Analog prototype parameters of the K-weighting stages, as fitted to the
@@ -66,23 +63,90 @@ func newKWeighting(sampleRate float64) kWeighting {
 	return kWeighting{shelf: shelf, highPass: highPass}
 }
 
-// energy K-weights every stride-th value of samples, starting from and
-// updating st, and returns the sum of squares of the weighted values.
-func (k *kWeighting) energy(samples []float64, stride int, st *kState) float64 {
-	sh, hp := k.shelf, k.highPass
-	x1, x2, y1, y2, z1, z2 := st.x1, st.x2, st.y1, st.y2, st.z1, st.z2
-	sum := 0.0
-	for i := 0; i < len(samples); i += stride {
-		x := samples[i]
-		// Direct form I, with the term in the previous output added last
-		// so that each recursion waits on one multiply and one add.
-		y := sh.b0*x + sh.b1*x1 + sh.b2*x2 - sh.a2*y2 - sh.a1*y1
-		z := hp.b0*y + hp.b1*y1 + hp.b2*y2 - hp.a2*z2 - hp.a1*z1
-		x1, x2 = x, x1
-		y1, y2 = y, y1
-		z1, z2 = z, z1
-		sum += z * z
+// forKernels returns the filter as the K-weighting kernels read it.
+func (k kWeighting) forKernels() kernel.KWeighting {
+	convert := func(b biquad) kernel.Biquad { return kernel.Biquad{B0: b.b0, B1: b.b1, B2: b.b2, A1: b.a1, A2: b.a2} }
+	return kernel.NewKWeighting(convert(k.shelf), convert(k.highPass))
+}
+
+// The K-weighting recursion runs in blocks of checkFrames frames. Between
+// blocks a stage whose memory has fallen below flushLevel is set to rest,
+// and a block of exact zeros met at rest is skipped, so that silence costs
+// next to nothing and no value the filters work on decays into the
+// subnormal range, where one operation costs about 20 times a normal one
+// on some processors (shared/reference performance.md, Intel section).
+const (
+	// flushLevel is 1e-30 (−600 dBFS), far below anything audible, even
+	// in a 32-bit float file. A stage memory below it is let go.
+	//
+	// Nothing the filters hold or square can be subnormal above
+	// √(smallest normal) ≈ 1.5e-154. With zero input, memory left
+	// standing at a check decays like ρⁿ until the next, ρ being the
+	// smallest pole radius over the rates NewMeter accepts (the shelf's,
+	// 0.432 at 8 kHz): 0.432²⁵⁶ ≈ 6e-94. So values stay near or above
+	// 6e-124, thirty decades clear, which leaves room for the way the
+	// two poles of a stage mix and for values that pass close to zero
+	// by chance, as any signal's do. TestFiltersNeverHoldSubnormals
+	// checks it at the lowest, common and highest rates.
+	flushLevel = 1e-30
+	// checkFrames is how often the flush and the zero test run: often
+	// enough for the bound above, rarely enough to cost nothing.
+	checkFrames = 256
+)
+
+// weightedEnergy K-weights the interleaved frames of samples, continuing
+// each channel's filter memory, and returns the sum of squares over all
+// channels.
+func (m *Meter) weightedEnergy(samples []float64) float64 {
+	var energy [2]float64
+	span := checkFrames * m.channels
+	for start := 0; start < len(samples); start += span {
+		block := samples[start:min(start+span, len(samples))]
+		if m.state == (kernel.KState{}) && zeros(block) {
+			// Filters at rest stay at rest on zeros: the skipped block
+			// adds exactly nothing.
+			continue
+		}
+		kernel.KWeight(block, m.channels, &m.filter, &m.state, &energy)
+		m.flush()
 	}
-	*st = kState{x1, x2, y1, y2, z1, z2}
-	return sum
+	return energy[0] + energy[1]
+}
+
+// zeros reports whether every value of x is zero (of either sign). It
+// reads them all, without a branch per value and in four independent
+// chains, since it runs only while the filters are at rest, where most
+// blocks are zeros.
+func zeros(x []float64) bool {
+	var b0, b1, b2, b3 uint64
+	i := 0
+	for ; i+4 <= len(x); i += 4 {
+		b0 |= math.Float64bits(x[i])
+		b1 |= math.Float64bits(x[i+1])
+		b2 |= math.Float64bits(x[i+2])
+		b3 |= math.Float64bits(x[i+3])
+	}
+	for ; i < len(x); i++ {
+		b0 |= math.Float64bits(x[i])
+	}
+	return (b0|b1|b2|b3)<<1 == 0 // all but the sign bits
+}
+
+// flush sets to rest each stage of each channel whose memory is all below
+// flushLevel: the shelf when its last inputs and outputs are, then the
+// high-pass when its input (the shelf's output) is at rest and its outputs
+// are below.
+func (m *Meter) flush() {
+	st := &m.state
+	for c := range m.channels {
+		// Written so that NaN, which max passes on, keeps its memory as
+		// it always has.
+		if !(max(math.Abs(st.X1[c]), math.Abs(st.X2[c]), math.Abs(st.Y1[c]), math.Abs(st.Y2[c])) < flushLevel) {
+			continue
+		}
+		st.X1[c], st.X2[c], st.Y1[c], st.Y2[c] = 0, 0, 0, 0
+		if max(math.Abs(st.Z1[c]), math.Abs(st.Z2[c])) < flushLevel {
+			st.Z1[c], st.Z2[c] = 0, 0
+		}
+	}
 }

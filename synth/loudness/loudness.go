@@ -21,6 +21,15 @@
 // mapping squeezes the shelf towards Nyquist: at 8 kHz a 1 kHz tone reads
 // about 0.2 LU low.
 //
+// The filters run as the K-weighting kernel of package kernel: direct
+// form I of fused multiply-adds, both channels of a stereo buffer side by
+// side, with the same reading whichever set of kernels runs. Between
+// blocks of 256 frames a stage whose memory has fallen below 1e-30
+// (−600 dBFS) is set to rest, and blocks of exact zeros met at rest are
+// skipped: a silent tail costs little more than reading it, and no value
+// the filters hold or square becomes subnormal, which is slow on some
+// processors. The flush moves readings by nothing measurable.
+//
 // Loudness is gated as BS.1770-4 specifies: 400 ms blocks every 100 ms,
 // absolute gate −70 LUFS, relative gate 10 LU below the power mean of the
 // blocks above the absolute gate. The hop is the sample rate divided by 10
@@ -48,14 +57,24 @@
 // of its amplitude with oversampling L. Because the samples themselves
 // are points of the grid, the reading is never below the sample peak. The
 // signal is taken as zero outside the buffer, so a buffer that starts or
-// stops abruptly reads the ringing of that edge. Built with
-// GOEXPERIMENT=simd on a processor with AVX-512, the 4× interpolator runs
-// eight intervals per vector (truepeak_simd.go); it adds the same products
-// in another order, so its readings agree with the plain build's to
-// within 1e-14.
+// stops abruptly reads the ringing of that edge.
+//
+// Both doublings run as package kernel's Oversampler, which on AVX2 and
+// AVX-512 processors lays eight stretches of a channel side by side in
+// the lanes of its vectors, with the same reading whichever set of kernels
+// runs. No interpolated point exceeds the largest sample it is made from
+// times the interpolator's gain bound (per doubling, the sum of its taps'
+// magnitudes), so a stretch of the buffer whose largest sample times that
+// bound cannot beat the peak found so far is not interpolated. That cannot
+// change the reading, and the quiet tail of a decaying note costs little
+// more than reading it. NaN samples are passed over.
 package loudness
 
-import "math"
+import (
+	"math"
+
+	"sinter/synth/kernel"
+)
 
 // Gating and calibration constants of BS.1770-4.
 const (
@@ -77,17 +96,21 @@ var absoluteGate = math.Pow(10, (-70-loudnessOffset)/10)
 type Meter struct {
 	channels  int
 	hopFrames int // frames in one 100 ms hop
-	weighting kWeighting
-	// state holds each channel's K-weighting filter memory during a call.
-	state [maxChannels]kState
+	filter    kernel.KWeighting
+	// state holds the channels' K-weighting filter memory during a call.
+	state kernel.KState
 	// hopEnergy holds, per 100 ms hop, the K-weighted energy summed over
 	// channels; it is reused between calls.
 	hopEnergy []float64
 
 	oversampling int // 4, 2 or 1 (sample peak)
-	// chunk holds a stretch of one channel with its context, and doubled
-	// that stretch at twice the rate.
-	chunk, doubled []float64
+	// gainBound bounds the interpolated points against the samples.
+	gainBound float64
+	// chunks hold a stretch of each channel with its context, and
+	// chunkViews the stretches a call measures.
+	chunks      [maxChannels][]float64
+	chunkViews  [maxChannels][]float64
+	oversampler *kernel.Oversampler
 }
 
 // maxChannels is the largest channel count a Meter accepts. Both front
@@ -107,7 +130,7 @@ func NewMeter(channels, sampleRate int) *Meter {
 	m := &Meter{
 		channels:  channels,
 		hopFrames: int(math.Round(float64(sampleRate) / 10)),
-		weighting: newKWeighting(float64(sampleRate)),
+		filter:    newKWeighting(float64(sampleRate)).forKernels(),
 	}
 	switch {
 	case sampleRate < 96000:
@@ -118,8 +141,11 @@ func NewMeter(channels, sampleRate int) *Meter {
 		m.oversampling = 1
 	}
 	if m.oversampling > 1 {
-		m.chunk = make([]float64, chunkFrames+2*channelPad)
-		m.doubled = make([]float64, doubledLen(len(m.chunk)))
+		m.gainBound = gainBound(m.oversampling)
+		for c := range channels {
+			m.chunks[c] = make([]float64, chunkFrames+2*channelPad)
+		}
+		m.oversampler = kernel.NewOversampler(firstTaps, secondTaps, chunkFrames+2*channelPad)
 	}
 	return m
 }
@@ -134,7 +160,7 @@ func NewMeter(channels, sampleRate int) *Meter {
 // of the channel count.
 func (m *Meter) Integrated(samples []float64) float64 {
 	frames := m.frameCount(samples)
-	m.state = [maxChannels]kState{}
+	m.state = kernel.KState{}
 	if frames < blockHops*m.hopFrames {
 		if frames == 0 {
 			return math.Inf(-1)
@@ -187,17 +213,6 @@ func gatedLoudness(power float64) float64 {
 		return math.Inf(-1)
 	}
 	return loudnessOffset + 10*math.Log10(power)
-}
-
-// weightedEnergy K-weights the interleaved frames of samples, continuing
-// each channel's filter state, and returns the sum of squares over all
-// channels.
-func (m *Meter) weightedEnergy(samples []float64) float64 {
-	e := 0.0
-	for c := range m.channels {
-		e += m.weighting.energy(samples[c:], m.channels, &m.state[c])
-	}
-	return e
 }
 
 // frameCount returns the number of interleaved frames in samples.

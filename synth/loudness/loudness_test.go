@@ -1,9 +1,12 @@
 package loudness_test
 
 import (
+	"fmt"
 	"math"
+	"math/rand/v2"
 	"testing"
 
+	"sinter/synth/kernel"
 	"sinter/synth/loudness"
 )
 
@@ -167,26 +170,79 @@ func TestMeasuresDoNotAllocate(t *testing.T) {
 	}
 }
 
-// benchmarkBuffer is 4 s of a mono tone at 48 kHz; both measures take
-// the same time whatever the signal.
-func benchmarkBuffer() []float64 {
-	return tone(1, 48000, 440, segment{-12, 4})
-}
-
-func BenchmarkIntegrated(b *testing.B) {
-	m := loudness.NewMeter(1, 48000)
-	x := benchmarkBuffer()
-	m.Integrated(x) // warm-up: the first call may grow scratch memory
-	for b.Loop() {
-		m.Integrated(x)
+// benchmarkSignals are the buffers the meters are timed on, at 48 kHz:
+// steady full scale, and the two tails that once cost the most on some
+// processors, a minute of exact zeros and a minute at −100 dBFS, each
+// after a second of tone so that the filters have something to decay.
+func benchmarkSignals(channels int) []struct {
+	name    string
+	samples []float64
+} {
+	return []struct {
+		name    string
+		samples []float64
+	}{
+		{"4s-full-scale", tone(channels, 48000, 997, segment{0, 4})},
+		{"silent-minute", tone(channels, 48000, 997, segment{0, 1}, segment{math.Inf(-1), 60})},
+		{"minus100dBFS-minute", tone(channels, 48000, 997, segment{0, 1}, segment{-100, 60})},
 	}
 }
 
+// benchmarkMeter times measure on every signal, mono and stereo, with
+// every set of kernels this processor runs, in nanoseconds per sample
+// (a stereo frame is two samples).
+func benchmarkMeter(b *testing.B, measure func(*loudness.Meter, []float64) float64) {
+	for _, channels := range []int{1, 2} {
+		for _, signal := range benchmarkSignals(channels) {
+			for _, isa := range kernel.Supported() {
+				b.Run(fmt.Sprintf("%s/%dch/%s", signal.name, channels, isa), func(b *testing.B) {
+					previous := kernel.Use(isa)
+					defer kernel.Use(previous)
+					m := loudness.NewMeter(channels, 48000)
+					measure(m, signal.samples) // warm-up: the first call may grow scratch memory
+					for b.Loop() {
+						measure(m, signal.samples)
+					}
+					b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N*len(signal.samples)), "ns/sample")
+				})
+			}
+		}
+	}
+}
+
+func BenchmarkIntegrated(b *testing.B) {
+	benchmarkMeter(b, (*loudness.Meter).Integrated)
+}
+
 func BenchmarkTruePeak(b *testing.B) {
-	m := loudness.NewMeter(1, 48000)
-	x := benchmarkBuffer()
-	m.TruePeak(x) // warm-up: the first call may grow scratch memory
-	for b.Loop() {
-		m.TruePeak(x)
+	benchmarkMeter(b, (*loudness.Meter).TruePeak)
+}
+
+// TestIntegratedSameBitsEverySet measures the same buffers with every set
+// of kernels this processor has and requires the plain form's reading bit
+// for bit, mono and stereo, at several rates and lengths, with a silent
+// stretch in the middle that the meter skips.
+func TestIntegratedSameBitsEverySet(t *testing.T) {
+	rng := rand.New(rand.NewPCG(5, 6))
+	for _, c := range []struct{ channels, rate int }{{1, 48000}, {2, 44100}, {2, 96000}} {
+		m := loudness.NewMeter(c.channels, c.rate)
+		for _, seconds := range []float64{0.05, 0.4, 1.3, 5} {
+			frames := int(seconds * float64(c.rate))
+			x := make([]float64, c.channels*frames)
+			for i := range x {
+				if n := i / c.channels; n < frames/3 || n > frames/2 {
+					x[i] = 0.5*(rng.Float64()*2-1) + 0.3*math.Sin(0.01*float64(n))
+				}
+			}
+			previous := kernel.Use(kernel.Plain)
+			want := m.Integrated(x)
+			for _, isa := range kernel.Supported() {
+				kernel.Use(isa)
+				if got := m.Integrated(x); math.Float64bits(got) != math.Float64bits(want) {
+					t.Errorf("%d ch, %d Hz, %g s, %s: %.17g LUFS, the plain form reads %.17g", c.channels, c.rate, seconds, isa, got, want)
+				}
+			}
+			kernel.Use(previous)
+		}
 	}
 }

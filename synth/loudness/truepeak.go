@@ -1,22 +1,27 @@
 package loudness
 
-import "math"
+import (
+	"math"
+
+	"sinter/synth/kernel"
+)
 
 // The interpolator raises the rate in two doublings (see the package doc).
 // Each doubling keeps the samples and adds the midpoint of every interval,
 // a Kaiser-windowed sinc cut off at the Nyquist frequency of its input and
 // folded about the midpoint: pair j (0-based) of the interval between
-// samples k and k+1 is x[k+1+j] + x[k−j], both at distance j + 1/2.
+// samples k and k+1 is x[k+1+j] + x[k−j], both at distance j + 1/2. The
+// kernel package makes both doublings, in the shape these constants give.
 const (
 	// firstHalfTaps pairs make each midpoint of the first doubling. With
 	// firstBeta they keep every interpolated value within 1.7e-4 of full
 	// scale up to 0.4167·fs (20 kHz at 48 kHz), the least error these
 	// taps reach.
-	firstHalfTaps = 16
+	firstHalfTaps = kernel.FirstPairs
 	firstBeta     = 8.25
 	// After the first doubling the signal fills less than half the band,
 	// so the second can be short: these reach 1.9e-5 over the same band.
-	secondHalfTaps = 6 // peakWithMidpoints writes out its pairs for 6
+	secondHalfTaps = kernel.SecondPairs
 	secondBeta     = 10.95
 	// channelPad frames of context either side of a stretch of signal let
 	// the second doubling reach the intervals just outside it.
@@ -26,16 +31,35 @@ const (
 	chunkFrames = 4096
 )
 
-// peakWithMidpoints is written out for six pairs; this stops the build if
-// secondHalfTaps changes.
-var _ = [1]struct{}{}[secondHalfTaps-6]
-
-// Midpoint taps of the two doublings, shared by all meters and never
-// written after init.
+// The taps of the two doublings, shared by all meters and never written
+// after init.
 var (
-	firstTaps  = midpointTaps(firstHalfTaps, firstBeta)
-	secondTaps = midpointTaps(secondHalfTaps, secondBeta)
+	firstTaps  = [firstHalfTaps]float64(midpointTaps(firstHalfTaps, firstBeta))
+	secondTaps = [secondHalfTaps]float64(midpointTaps(secondHalfTaps, secondBeta))
 )
+
+// gainBound returns, for oversampling 2 or 4, a bound on the magnitude of
+// any point the interpolator makes from samples within ±1, with room for
+// rounding. A midpoint is a sum of taps times samples, so it is at most
+// the sum of the taps' magnitudes (both sides of the fold) times the
+// largest sample; the second doubling works on the first's output, so the
+// bounds multiply (each is above 1). The computed values round about 20
+// times on their way, each time by at most 2⁻⁵³ relative; the margin of
+// 2⁻³⁰ covers that many times over.
+func gainBound(oversampling int) float64 {
+	sum := func(taps []float64) float64 {
+		g := 0.0
+		for _, t := range taps {
+			g += 2 * math.Abs(t)
+		}
+		return g
+	}
+	bound := sum(firstTaps[:])
+	if oversampling == 4 {
+		bound *= sum(secondTaps[:])
+	}
+	return bound * (1 + 0x1p-30)
+}
 
 // midpointTaps returns the taps of a doubling, one per pair, normalised so
 // that the midpoint of a constant signal is that constant.
@@ -78,101 +102,57 @@ func besselI0(x float64) float64 {
 // between the samples, as a linear value (1 = full scale), by
 // oversampling: 4× below 96 kHz, 2× from 96 kHz to below 192 kHz, and 1×
 // (the sample peak) at 192 kHz and above. It is never less than the sample
-// peak. The signal is taken as zero outside the buffer. samples holds
-// interleaved frames; TruePeak panics if its length is not a multiple of
-// the channel count.
+// peak. The signal is taken as zero outside the buffer; NaN samples are
+// passed over. samples holds interleaved frames; TruePeak panics if its
+// length is not a multiple of the channel count.
 func (m *Meter) TruePeak(samples []float64) float64 {
 	frames := m.frameCount(samples)
 	if m.oversampling == 1 {
-		return peakMagnitude(samples)
+		return kernel.Peak(samples, 0)
 	}
 	peak := 0.0
-	for c := range m.channels {
+	for first := 0; first < frames; first += chunkFrames {
 		// Each chunk is read with channelPad frames of context either
 		// side (zeros beyond the buffer), so it covers its own intervals
 		// and the ones joining it to its neighbours; the overlap is
 		// measured twice, which cannot change a maximum.
-		for first := 0; first < frames; first += chunkFrames {
-			from := first - channelPad
-			chunk := m.chunk[:min(chunkFrames, frames-first)+2*channelPad]
-			clear(chunk)
-			lo, hi := max(from, 0), min(from+len(chunk), frames)
-			if m.channels == 1 {
-				copy(chunk[lo-from:], samples[lo:hi])
-			} else {
-				for f := lo; f < hi; f++ {
-					chunk[f-from] = samples[f*m.channels+c]
-				}
-			}
+		from, to := first-channelPad, min(first+chunkFrames, frames)+channelPad
+		lo, hi := max(from, 0), min(to, frames)
+		// A chunk whose every point is bound to stay at or below the
+		// peak found so far cannot change the reading: the quiet tail of
+		// a decaying note costs a glance.
+		if kernel.Peak(samples[lo*m.channels:hi*m.channels], 0)*m.gainBound <= peak {
+			continue
+		}
+		chunks := m.channelChunks(samples, from, to, lo, hi)
+		for _, chunk := range chunks {
 			if m.oversampling == 2 {
-				peak = max(peak, peakMagnitude(double(m.doubled, chunk)))
+				peak = m.oversampler.DoublePeak(chunk, peak)
 			} else {
-				peak = max(peak, m.quadruplePeak(chunk))
+				peak = m.oversampler.QuadruplePeak(chunk, peak)
 			}
 		}
 	}
 	return peak
 }
 
-// peakMagnitude returns the largest magnitude in x.
-func peakMagnitude(x []float64) float64 {
-	peak := 0.0
-	for _, v := range x {
-		peak = max(peak, math.Abs(v))
+// channelChunks returns each channel's frames from to to, zero outside
+// the buffer's frames lo to hi: mono frames inside it as they lie, the
+// rest copied into the meter's scratch.
+func (m *Meter) channelChunks(samples []float64, from, to, lo, hi int) [][]float64 {
+	chunks := m.chunkViews[:m.channels]
+	for c := range chunks {
+		chunks[c] = m.chunks[c][:to-from]
+		clear(chunks[c][:lo-from])
+		clear(chunks[c][hi-from:])
 	}
-	return peak
-}
-
-// doubledLen is the length double writes for an input of length n: a
-// sample and a midpoint for each interval whose pairs fit, then the
-// sample that ends the last interval.
-func doubledLen(n int) int { return 2*(n-2*firstHalfTaps+1) + 1 }
-
-// double writes x at twice its rate into dst, from the first interval
-// whose pairs fit in x to the last, and returns the doubledLen(len(x))
-// values written.
-func double(dst, x []float64) []float64 {
-	const width = 2 * firstHalfTaps
-	taps := (*[firstHalfTaps]float64)(firstTaps)
-	dst = dst[:doubledLen(len(x))]
-	for k := 0; k+width <= len(x); k++ {
-		// w[firstHalfTaps−1] and w[firstHalfTaps] end the interval.
-		w := (*[width]float64)(x[k : k+width])
-		// Four partial sums, so that consecutive additions do not wait
-		// on each other.
-		var m0, m1, m2, m3 float64
-		for j := 0; j < firstHalfTaps; j += 4 {
-			m0 += taps[j] * (w[firstHalfTaps+j] + w[firstHalfTaps-1-j])
-			m1 += taps[j+1] * (w[firstHalfTaps+1+j] + w[firstHalfTaps-2-j])
-			m2 += taps[j+2] * (w[firstHalfTaps+2+j] + w[firstHalfTaps-3-j])
-			m3 += taps[j+3] * (w[firstHalfTaps+3+j] + w[firstHalfTaps-4-j])
-		}
-		dst[2*k] = w[firstHalfTaps-1]
-		dst[2*k+1] = (m0 + m1) + (m2 + m3)
+	switch {
+	case m.channels == 2:
+		kernel.Deinterleave(chunks[0][lo-from:hi-from], chunks[1][lo-from:hi-from], samples[2*lo:2*hi])
+	case lo == from && hi == to:
+		chunks[0] = samples[from:to]
+	default:
+		copy(chunks[0][lo-from:], samples[lo:hi])
 	}
-	dst[len(dst)-1] = x[len(x)-firstHalfTaps]
-	return dst
-}
-
-// peakWithMidpoints returns the largest magnitude among the samples of u
-// and the midpoints of its intervals, over the intervals whose pairs fit
-// in u: the second doubling, searched as it is made.
-func peakWithMidpoints(u []float64) float64 {
-	const width = 2 * secondHalfTaps
-	taps := (*[secondHalfTaps]float64)(secondTaps)
-	peak := 0.0
-	for k := 0; k+width <= len(u); k++ {
-		w := (*[width]float64)(u[k : k+width])
-		// Written out, since a loop this short costs more than its body:
-		// pair j is w[6+j] + w[5−j].
-		mid := (taps[0]*(w[6]+w[5]) + taps[1]*(w[7]+w[4]) + taps[2]*(w[8]+w[3])) +
-			(taps[3]*(w[9]+w[2]) + taps[4]*(w[10]+w[1]) + taps[5]*(w[11]+w[0]))
-		if v := math.Abs(w[secondHalfTaps-1]); v > peak {
-			peak = v
-		}
-		if v := math.Abs(mid); v > peak {
-			peak = v
-		}
-	}
-	return peak
+	return chunks
 }

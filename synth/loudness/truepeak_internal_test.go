@@ -3,6 +3,8 @@ package loudness
 import (
 	"math"
 	"testing"
+
+	"sinter/synth/kernel"
 )
 
 // TestTruePeakSameAcrossChunkBoundaries moves a short burst, whose crest
@@ -39,4 +41,106 @@ func withBurst(channels, frames, start int, burst []float64) []float64 {
 		x[(start+i)*channels+channels-1] = v
 	}
 	return x
+}
+
+// TestSkippedChunksKeepTheReading measures decaying notes, whose quiet
+// stretches the meter skips, with the skip and with it switched off (an
+// infinite gain bound never lets a stretch pass), and requires the same
+// bits. Source: the definition of a maximum, which leaving out values no
+// larger than it cannot change; what this checks is that the skip leaves
+// out nothing larger.
+func TestSkippedChunksKeepTheReading(t *testing.T) {
+	for _, c := range []struct{ channels, rate int }{{1, 48000}, {2, 44100}, {2, 96000}} {
+		frames := 3 * c.rate
+		x := make([]float64, c.channels*frames)
+		for i := range x {
+			n := float64(i / c.channels)
+			// A plucked note: partials with crests between samples, the
+			// level falling 60 dB a second.
+			x[i] = math.Exp(-6.9*n/float64(c.rate)) * (0.6*math.Sin(2*math.Pi*1234.5*n/float64(c.rate)+float64(i%c.channels)) +
+				0.3*math.Sin(2*math.Pi*0.45*n+0.7))
+		}
+		m := NewMeter(c.channels, c.rate)
+		got := m.TruePeak(x)
+		// The note must let most stretches be skipped, or the test would
+		// not be testing the skip.
+		skippable := 0
+		for first := 0; first < frames; first += chunkFrames {
+			lo, hi := max(first-channelPad, 0), min(first+chunkFrames+channelPad, frames)
+			if kernel.Peak(x[lo*c.channels:hi*c.channels], 0)*m.gainBound <= got {
+				skippable++
+			}
+		}
+		if stretches := (frames + chunkFrames - 1) / chunkFrames; 2*skippable < stretches {
+			t.Fatalf("%d ch, %d Hz: only %d of %d stretches could be skipped", c.channels, c.rate, skippable, stretches)
+		}
+		m.gainBound = math.Inf(1)
+		if want := m.TruePeak(x); math.Float64bits(got) != math.Float64bits(want) {
+			t.Errorf("%d ch, %d Hz: %.17g with stretches skipped, %.17g with none", c.channels, c.rate, got, want)
+		}
+	}
+}
+
+// TestGainBoundHolds drives the interpolator as hard as it goes. Source:
+// the triangle inequality: a point Σ h_i·x_i of samples within ±1 is at
+// most Σ|h_i|, reached where every sample has its weight's sign. For a
+// midpoint of one doubling h is its taps, twice each; for a point of the
+// second doubling it is found here by measuring the point's response to
+// each sample, with both doublings written out plainly. The meter must
+// read each such signal at least at that point's value (less rounding)
+// and never above its bound.
+func TestGainBoundHolds(t *testing.T) {
+	const length, k = 80, 24 // samples; the interval of the first doubling in the middle
+	// first is the first doubling's midpoint of interval i, between
+	// x[i+15] and x[i+16]; point returns the second doubling's midpoint
+	// after u[2k+side] in u = s[0], m[0], s[1], …, with s[i] = x[i+15].
+	first := func(x []float64, i int) float64 {
+		sum := 0.0
+		for j, tap := range firstTaps {
+			sum += tap * (x[i+firstHalfTaps+j] + x[i+firstHalfTaps-1-j])
+		}
+		return sum
+	}
+	u := func(x []float64, c int) float64 {
+		if c%2 == 0 {
+			return x[c/2+firstHalfTaps-1]
+		}
+		return first(x, c/2)
+	}
+	point := func(x []float64, side int) float64 {
+		c, sum := 2*k+side, 0.0
+		for j, tap := range secondTaps {
+			sum += tap * (u(x, c+1+j) + u(x, c-j))
+		}
+		return sum
+	}
+	worstFor := func(value func([]float64) float64) ([]float64, float64) {
+		worst, reach := make([]float64, length), 0.0
+		for i := range worst {
+			impulse := make([]float64, length)
+			impulse[i] = 1
+			h := value(impulse)
+			worst[i] = math.Copysign(1, h)
+			reach += math.Abs(h)
+		}
+		return worst, reach
+	}
+	cases := []struct {
+		name  string
+		rate  int
+		value func([]float64) float64
+	}{
+		{"2×, a first-doubling midpoint", 96000, func(x []float64) float64 { return first(x, k) }},
+		{"4×, the midpoint after a sample", 48000, func(x []float64) float64 { return point(x, 0) }},
+		{"4×, the midpoint after a midpoint", 48000, func(x []float64) float64 { return point(x, 1) }},
+	}
+	for _, c := range cases {
+		m := NewMeter(1, c.rate)
+		worst, reach := worstFor(c.value)
+		got := m.TruePeak(worst)
+		t.Logf("%s: reaches %.6f, reads %.6f, bound %.6f", c.name, reach, got, m.gainBound)
+		if got < reach*(1-1e-12) || got > m.gainBound {
+			t.Errorf("%s: reads %.17g; the point reaches %.17g and the bound is %.17g", c.name, got, reach, m.gainBound)
+		}
+	}
 }

@@ -5,6 +5,7 @@ import (
 	"math/rand/v2"
 	"testing"
 
+	"sinter/synth/kernel"
 	"sinter/synth/loudness"
 )
 
@@ -159,6 +160,37 @@ func TestTruePeakNeverBelowSamplePeak(t *testing.T) {
 					t.Fatalf("%d Hz %d ch, %d samples: true peak %v below sample peak %v", rate, channels, len(x), got, sp)
 				}
 			}
+		}
+	}
+}
+
+// TestTruePeakSameBitsEverySet measures the same buffers with every set of
+// kernels this processor has and requires the plain form's reading bit
+// for bit: mono and stereo, at rates of each oversampling, for lengths
+// around the stretch the meter interpolates at a time (4096 frames) and
+// the vector widths, of noise and a sine whose crests fall between
+// samples, decaying so that later stretches are skipped.
+func TestTruePeakSameBitsEverySet(t *testing.T) {
+	rng := rand.New(rand.NewPCG(3, 4))
+	for _, c := range []struct{ channels, rate int }{
+		{1, 48000}, {2, 44100}, {1, 88200}, {2, 96000}, {1, 176400}, {2, 192000},
+	} {
+		m := loudness.NewMeter(c.channels, c.rate)
+		for _, frames := range []int{1, 7, 8, 31, 32, 38, 39, 50, 70, 71, 100, 4095, 4096, 4097, 4096 + 38, 2*4096 + 7, 3*4096 + 7, 9000, 10000, 48000 + 13} {
+			x := make([]float64, c.channels*frames)
+			for i := range x {
+				n := float64(i / c.channels)
+				x[i] = (0.3*(rng.Float64()*2-1) + 0.6*math.Sin(0.9*math.Pi*n+0.3)) * math.Exp(-n/3000)
+			}
+			previous := kernel.Use(kernel.Plain)
+			want := m.TruePeak(x)
+			for _, isa := range kernel.Supported() {
+				kernel.Use(isa)
+				if got := m.TruePeak(x); math.Float64bits(got) != math.Float64bits(want) {
+					t.Errorf("%d ch, %d Hz, %d frames, %s: %.17g, the plain form reads %.17g", c.channels, c.rate, frames, isa, got, want)
+				}
+			}
+			kernel.Use(previous)
 		}
 	}
 }

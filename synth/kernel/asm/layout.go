@@ -10,9 +10,8 @@ import (
 
 // kernelPackage is the kernel package as go/types sees it: its Go files
 // only, so the layouts below can be read even while its assembly is out
-// of date, and type-checked from source (NeedSyntax), because the
-// compiler's export data leaves out the unexported constants the
-// kernels read.
+// of date, type-checked from source so that unexported constants, which
+// compiled export data leaves out, are there too.
 var kernelPackage = func() *types.Package {
 	pkgs, err := packages.Load(&packages.Config{Mode: packages.NeedTypes | packages.NeedTypesSizes | packages.NeedSyntax}, "sinter/synth/kernel")
 	if err != nil {

@@ -11,12 +11,12 @@
 // package's types for their layouts, so the package must compile: if a
 // broken .s file stops it, empty that file and run again.
 //
-// Every family comes in an AVX2 and an AVX-512 form that do the same
-// arithmetic on each lane, so both give the same bits: the resonator's
-// AVX2 form does to each half of a 512-bit vector what the AVX-512 form
-// does to the whole. Only VEX and EVEX encodings appear,
-// the AVX2 forms use no register above Y15, and every function ends with
-// VZEROUPPER.
+// Every family comes in an AVX2 and an AVX-512 form, except where wider
+// vectors cannot help (the K-weighting kernel's two lanes), where AVX-512
+// processors run the AVX2 form. The AVX2 form does to each half of a
+// 512-bit vector what the AVX-512 form does to the whole, so both give the
+// same bits. Only VEX and EVEX encodings appear, the AVX2 forms use no
+// register above Y15, and every function ends with VZEROUPPER.
 package main
 
 import (
@@ -32,9 +32,11 @@ import (
 
 // families maps a family name to the function that writes its kernels.
 var families = map[string]func(){
-	"chirp":     chirp,
-	"quantize":  quantize,
-	"resonator": resonator,
+	"chirp":      chirp,
+	"kweighting": kweighting,
+	"quantize":   quantize,
+	"resonator":  resonator,
+	"truepeak":   truepeak,
 }
 
 func main() {
