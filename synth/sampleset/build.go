@@ -95,10 +95,9 @@ func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error)
 	if err := checkReplaceable(dir); err != nil {
 		return nil, err
 	}
-	jobs := max(1, opts.Jobs)
 	notes := plan.Notes
 	res := &Result{Dir: dir}
-	b := &build{plan: plan, opts: opts,
+	b := &build{plan: plan, opts: opts, workers: newWorkers(opts.Jobs),
 		loops: make([]synth.Loop, len(notes)), looped: make([]bool, len(notes)),
 		gains: make([]float64, len(notes)), stats: make([]synth.Stats, len(notes)),
 		clipped: make([]bool, len(notes)), warnings: make([][]string, len(notes)),
@@ -108,10 +107,16 @@ func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error)
 	if !opts.Force {
 		b.previous = loadPrevious(dir)
 	}
-	for i := range notes {
+	// Loops and render keys on every worker: a render key hashes the whole
+	// note, which for dense notes is worth sharing out.
+	err := forEach(ctx, b.workers, len(notes), func(_ *worker, i int) error {
 		b.loops[i], b.looped[i] = synth.PlanLoop(&notes[i])
 		b.gains[i] = 1
 		b.keys[i] = renderKey(plan, &notes[i], opts.Version)
+		return nil
+	})
+	if err != nil {
+		return nil, err
 	}
 	staging, err := newStaging(dir)
 	if err != nil {
@@ -131,7 +136,7 @@ func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error)
 	b.own, b.measure = opts.Shard.slice(plan)
 	if norm.Measure == patch.MeasureOff || norm.Scope == patch.ScopeFile {
 		truePeak, loudness := needs(norm)
-		err = b.each(ctx, jobs, b.own, func(w *worker, i int) error {
+		err = b.each(ctx, b.own, func(w *worker, i int) error {
 			if lv, ok := b.previous.measured(b.keys[i], truePeak, loudness); ok || norm.Measure == patch.MeasureOff {
 				// The gain follows from the note alone, so an unchanged
 				// note keeps its file.
@@ -153,7 +158,7 @@ func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error)
 			return b.finish(w, i, buf)
 		})
 	} else {
-		err = b.twoPasses(ctx, jobs, res)
+		err = b.twoPasses(ctx, res)
 	}
 	if err != nil {
 		return nil, err
@@ -191,9 +196,10 @@ func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error)
 	return res, nil
 }
 
-// each calls fn for the notes idx on jobs goroutines, as forEach does.
-func (b *build) each(ctx context.Context, jobs int, idx []int, fn func(w *worker, i int) error) error {
-	return forEach(ctx, jobs, len(idx), func(w *worker, j int) error { return fn(w, idx[j]) })
+// each calls fn for the notes idx on the build's workers, as forEach
+// does.
+func (b *build) each(ctx context.Context, idx []int, fn func(w *worker, i int) error) error {
+	return forEach(ctx, b.workers, len(idx), func(w *worker, j int) error { return fn(w, idx[j]) })
 }
 
 // includes lists the plan's included files for the manifest, with
@@ -226,6 +232,7 @@ type build struct {
 	rendered []bool
 	reused   []bool
 	previous *previous // the set already in the output folder, or nil
+	workers  []*worker // one per job, for every pass
 	// own are the notes this build writes, measure those it measures (all
 	// of them unless it is a shard).
 	own, measure []int
@@ -235,13 +242,13 @@ type build struct {
 }
 
 // twoPasses measures every note, sets the gains and then writes the notes.
-func (b *build) twoPasses(ctx context.Context, jobs int, res *Result) error {
+func (b *build) twoPasses(ctx context.Context, res *Result) error {
 	notes := b.plan.Notes
 	measured := make([]levels, len(notes))
 	kept := newSpills(b.staging, len(notes))
 	defer kept.remove() // on failure; the staging folder goes as well
 	truePeak, loudness := needs(b.plan.Normalize)
-	err := b.each(ctx, jobs, b.measure, func(w *worker, i int) error {
+	err := b.each(ctx, b.measure, func(w *worker, i int) error {
 		if lv, ok := b.previous.measured(b.keys[i], truePeak, loudness); ok {
 			measured[i] = lv
 			b.measured[i] = measuredEntry(lv, truePeak, loudness)
@@ -266,7 +273,7 @@ func (b *build) twoPasses(ctx context.Context, jobs int, res *Result) error {
 	res.Warnings = append(res.Warnings, warnings...)
 	rerendered := make([]bool, len(notes))
 	again := make([]synth.Stats, len(notes))
-	err = b.each(ctx, jobs, b.own, func(w *worker, i int) error {
+	err = b.each(ctx, b.own, func(w *worker, i int) error {
 		if f, ok := b.previous.file(b.keys[i], b.gains[i]); ok {
 			return b.keep(i, f)
 		}
@@ -440,20 +447,31 @@ func (w *worker) measure(buf []float64, n *patch.Note, truePeak, loud bool) leve
 	return lv
 }
 
-// forEach calls fn for every index below count on jobs goroutines, each
-// with its own worker. It stops handing out indices after the first error or
-// when ctx is cancelled, and returns that error. Results must be stored by
-// index, which keeps the output independent of the number of jobs.
-func forEach(ctx context.Context, jobs, count int, fn func(w *worker, i int) error) error {
+// newWorkers returns jobs workers, which keep their buffers, renderers
+// and meters from one pass to the next: a second pass that made its own
+// would allocate and fault in the same memory again.
+func newWorkers(jobs int) []*worker {
+	w := make([]*worker, max(1, jobs))
+	for i := range w {
+		w[i] = &worker{}
+	}
+	return w
+}
+
+// forEach calls fn for every index below count on one goroutine per
+// worker (or fewer, if count is smaller), each with its own worker. It
+// stops handing out indices after the first error or when ctx is
+// cancelled, and returns that error. Results must be stored by index,
+// which keeps the output independent of the number of workers.
+func forEach(ctx context.Context, workers []*worker, count int, fn func(w *worker, i int) error) error {
 	ctx, cancel := context.WithCancelCause(ctx)
 	defer cancel(nil)
 	next := make(chan int)
 	var wg sync.WaitGroup
-	for range min(jobs, max(count, 1)) {
+	for _, w := range workers[:min(len(workers), max(count, 1))] {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
-			w := &worker{}
 			for i := range next {
 				if err := fn(w, i); err != nil {
 					cancel(err)
