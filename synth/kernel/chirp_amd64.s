@@ -231,11 +231,11 @@ chirp2:
 	MOVQ    $0x00000004, DI
 
 chirpSpan2AVX512:
-	VPBROADCASTQ 72(SI), Z16
-	VPBROADCASTQ 104(SI), Z17
+	VPBROADCASTQ 96(SI), Z16
+	VPBROADCASTQ 128(SI), Z17
 
 	// phase = Phase + Rate·j + Curve·j²; step = 8·Rate + 64·Curve + 16·Curve·j
-	VPBROADCASTQ 40(SI), Z18
+	VPBROADCASTQ 64(SI), Z18
 	VPMULLQ      chirpConstants<>+0(SB), Z16, Z19
 	VPADDQ       Z19, Z18, Z18
 	VPMULLQ      chirpConstants<>+64(SB), Z17, Z19
@@ -251,16 +251,16 @@ chirpSpan2AVX512:
 
 	// the gain ramp across this span
 	VBROADCASTSD (SI), Z19
-	VBROADCASTSD 8(SI), Z20
+	VBROADCASTSD 32(SI), Z20
 	VMULPD       chirpConstants<>+576(SB), Z20, Z21
 	VFMADD231PD  chirpConstants<>+512(SB), Z19, Z21
 	VSUBPD       Z19, Z20, Z19
 	VMULPD       chirpConstants<>+640(SB), Z19, Z19
-	VPBROADCASTQ 208(SI), Z20
-	VPBROADCASTQ 240(SI), Z22
+	VPBROADCASTQ 256(SI), Z20
+	VPBROADCASTQ 288(SI), Z22
 
 	// phase = Phase + Rate·j + Curve·j²; step = 8·Rate + 64·Curve + 16·Curve·j
-	VPBROADCASTQ 176(SI), Z23
+	VPBROADCASTQ 224(SI), Z23
 	VPMULLQ      chirpConstants<>+0(SB), Z20, Z24
 	VPADDQ       Z24, Z23, Z23
 	VPMULLQ      chirpConstants<>+64(SB), Z22, Z24
@@ -275,8 +275,8 @@ chirpSpan2AVX512:
 	VPSLLQ $0x07, Z22, Z22
 
 	// the gain ramp across this span
-	VBROADCASTSD 136(SI), Z24
-	VBROADCASTSD 144(SI), Z25
+	VBROADCASTSD 160(SI), Z24
+	VBROADCASTSD 192(SI), Z25
 	VMULPD       chirpConstants<>+576(SB), Z25, Z26
 	VFMADD231PD  chirpConstants<>+512(SB), Z24, Z26
 	VSUBPD       Z24, Z25, Z24
@@ -717,7 +717,7 @@ chirpSpan2AVX512:
 	ADDQ        $0x00000008, SI
 	DECQ        DI
 	JNZ         chirpSpan2AVX512
-	ADDQ        $0x00000110, CX
+	ADDQ        $0x00000140, CX
 	SUBQ        $0x00000002, DX
 	JMP         chirp2
 
@@ -746,11 +746,11 @@ chirp2Done:
 	MOVQ    $0x00000004, SI
 
 chirpSpan1AVX512:
-	VPBROADCASTQ 72(BX), Z16
-	VPBROADCASTQ 104(BX), Z17
+	VPBROADCASTQ 96(BX), Z16
+	VPBROADCASTQ 128(BX), Z17
 
 	// phase = Phase + Rate·j + Curve·j²; step = 8·Rate + 64·Curve + 16·Curve·j
-	VPBROADCASTQ 40(BX), Z18
+	VPBROADCASTQ 64(BX), Z18
 	VPMULLQ      chirpConstants<>+0(SB), Z16, Z19
 	VPADDQ       Z19, Z18, Z18
 	VPMULLQ      chirpConstants<>+64(SB), Z17, Z19
@@ -766,7 +766,7 @@ chirpSpan1AVX512:
 
 	// the gain ramp across this span
 	VBROADCASTSD (BX), Z19
-	VBROADCASTSD 8(BX), Z20
+	VBROADCASTSD 32(BX), Z20
 	VMULPD       chirpConstants<>+576(SB), Z20, Z21
 	VFMADD231PD  chirpConstants<>+512(SB), Z19, Z21
 	VSUBPD       Z19, Z20, Z19
@@ -999,7 +999,7 @@ chirpSpan1AVX512:
 	ADDQ        $0x00000008, BX
 	DECQ        SI
 	JNZ         chirpSpan1AVX512
-	ADDQ        $0x00000088, CX
+	ADDQ        $0x000000a0, CX
 	SUBQ        $0x00000001, DX
 
 chirp1Done:
@@ -1023,11 +1023,11 @@ chirp1:
 	MOVQ $0x00000004, DI
 
 chirpSpan1AVX2:
-	VPBROADCASTQ 72(SI), Y0
-	VPBROADCASTQ 104(SI), Y1
+	VPBROADCASTQ 96(SI), Y0
+	VPBROADCASTQ 128(SI), Y1
 
 	// phase = Phase + Rate·j + Curve·j²; step = 8·Rate + 64·Curve + 16·Curve·j
-	VPBROADCASTQ 40(SI), Y2
+	VPBROADCASTQ 64(SI), Y2
 	VPMULUDQ     chirpConstants<>+0(SB), Y0, Y3
 	VPSRLQ       $0x20, Y0, Y4
 	VPMULUDQ     chirpConstants<>+0(SB), Y4, Y4
@@ -1051,7 +1051,7 @@ chirpSpan1AVX2:
 	VPADDQ       Y4, Y3, Y3
 
 	// phase = Phase + Rate·j + Curve·j²; step = 8·Rate + 64·Curve + 16·Curve·j
-	VPBROADCASTQ 40(SI), Y4
+	VPBROADCASTQ 64(SI), Y4
 	VPMULUDQ     chirpConstants<>+32(SB), Y0, Y5
 	VPSRLQ       $0x20, Y0, Y6
 	VPMULUDQ     chirpConstants<>+32(SB), Y6, Y6
@@ -1079,7 +1079,7 @@ chirpSpan1AVX2:
 
 	// the gain ramp across this span
 	VBROADCASTSD (SI), Y5
-	VBROADCASTSD 8(SI), Y6
+	VBROADCASTSD 32(SI), Y6
 	VMULPD       chirpConstants<>+576(SB), Y6, Y7
 	VFMADD231PD  chirpConstants<>+512(SB), Y5, Y7
 	VMULPD       chirpConstants<>+608(SB), Y6, Y8
@@ -1586,7 +1586,7 @@ chirpSpan1AVX2:
 	ADDQ        $0x00000008, SI
 	DECQ        DI
 	JNZ         chirpSpan1AVX2
-	ADDQ        $0x00000088, CX
+	ADDQ        $0x000000a0, CX
 	SUBQ        $0x00000001, DX
 	JMP         chirp1
 

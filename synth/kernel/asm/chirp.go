@@ -161,8 +161,8 @@ func chirpGroup(s shape, g int, constants Mem, block, jobs reg.Register) {
 		VPSLLQ(U8(7), curve, c.growth)
 		Comment("the gain ramp across this span")
 		lo, hi := s.vec(), s.vec()
-		VBROADCASTSD(Mem{Base: span, Disp: p*chirpJob.size + chirpJob.field("Levels")}, lo)
-		VBROADCASTSD(Mem{Base: span, Disp: p*chirpJob.size + chirpJob.field("Levels") + 8}, hi)
+		VBROADCASTSD(Mem{Base: span, Disp: p*chirpJob.size + chirpJob.field("From")}, lo)
+		VBROADCASTSD(Mem{Base: span, Disp: p*chirpJob.size + chirpJob.field("To")}, hi)
 		for q := range parts {
 			c.gain[q] = s.vec()
 			VMULPD(at(rowRampTo, q), hi, c.gain[q])
