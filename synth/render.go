@@ -693,18 +693,9 @@ func kernel1(out []float64, o *oscillator) {
 	o.y, o.step = y, s
 }
 
-// Peak returns the largest absolute sample value in buf.
-func Peak(buf []float64) float64 {
-	peak := 0.0
-	for _, v := range buf {
-		// A comparison, not the max builtin, whose handling of NaN and
-		// signed zeros costs several times as much.
-		if a := math.Abs(v); a > peak {
-			peak = a
-		}
-	}
-	return peak
-}
+// Peak returns the largest absolute sample value in buf; NaN values are
+// passed over.
+func Peak(buf []float64) float64 { return kernel.Peak(buf, 0) }
 
 // Scale multiplies every sample of buf by gain.
 func Scale(buf []float64, gain float64) {
