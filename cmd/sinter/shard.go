@@ -92,7 +92,7 @@ func merge(args []string, stdout, stderr io.Writer) int {
 	}
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
 	defer stop()
-	if err := sampleset.Merge(ctx, plan, plan.OutputDir, positional[1:], version); err != nil {
+	if err := sampleset.Merge(ctx, plan, plan.OutputDir, positional[1:], sampleset.Options{Version: version}); err != nil {
 		return out.fail(exitFailure, err)
 	}
 	if out.json {
