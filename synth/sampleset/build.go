@@ -133,7 +133,8 @@ func dense(stats synth.Stats, n *patch.Note) bool {
 // memory holds one note per job however large the set is.
 func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error) {
 	dir := plan.OutputDir
-	if err := opts.Limits.Check(EstimatePlan(plan)); err != nil {
+	est := EstimatePlan(plan)
+	if err := opts.Limits.Check(est); err != nil {
 		return nil, err
 	}
 	if err := checkReplaceable(dir); err != nil {
@@ -145,6 +146,12 @@ func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error)
 	}
 	defer out.release()
 	own, measure := opts.Shard.slice(plan)
+	if opts.Shard.Count > 1 {
+		est = estimate(plan, own)
+	}
+	if err := checkRoom(dir, est); err != nil {
+		return nil, err
+	}
 	jobs := max(1, opts.Jobs)
 	notes := plan.Notes
 	res := &Result{Dir: dir, Removed: out.removed}

@@ -26,6 +26,16 @@ func flock(f *os.File) error {
 	return err
 }
 
+// freeSpace returns the bytes an unprivileged user may still write to the
+// file system that holds path.
+func freeSpace(path string) (int64, bool) {
+	var st unix.Statfs_t
+	if unix.Statfs(path, &st) != nil {
+		return 0, false
+	}
+	return int64(st.Bavail) * int64(st.Bsize), true
+}
+
 // tryLock takes the lock beside an output folder with flock(2) on the
 // file at path, without waiting: errHeld and who holds it if another
 // process does. A file left by a holder that ended is free, since the
