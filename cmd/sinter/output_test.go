@@ -8,6 +8,7 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
+	"runtime"
 	"strconv"
 	"strings"
 	"sync"
@@ -376,6 +377,11 @@ func TestModesFollowTheUmask(t *testing.T) {
 // (what check estimates: the set and the notes kept between the passes)
 // and what is free, and writes nothing.
 func TestRenderRefusesWithoutRoom(t *testing.T) {
+	if runtime.GOOS != "linux" && runtime.GOOS != "darwin" && runtime.GOOS != "freebsd" {
+		// Elsewhere the free space is not read, and the render would
+		// start.
+		t.Skip("sampleset reads free space on Linux, macOS and FreeBSD")
+	}
 	root := t.TempDir()
 	path := writeFile(t, root, "huge.yaml", `name: huge
 sample_rate: 384000
