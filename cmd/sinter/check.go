@@ -49,6 +49,10 @@ type planSummary struct {
 	TailUntilDB  float64 `json:"tail_until_dbfs,omitempty"`
 	FileSeconds  float64 `json:"file_seconds"`
 	Bytes        int64   `json:"bytes"`
+	// SpillBytes are the dense notes a set levelled as a whole keeps
+	// beside it between its passes: render needs room for them and the
+	// set, and refuses at once without it.
+	SpillBytes int64 `json:"spill_bytes"`
 	// UpperBounds says that audio_seconds and bytes are the most a render
 	// writes: tails end by level, which only rendering finds.
 	UpperBounds bool `json:"lengths_are_upper_bounds,omitempty"`
@@ -129,7 +133,7 @@ func summarize(plan *patch.Plan, p *patch.Patch) planSummary {
 		s.TailUntilDB = 20 * math.Log10(p.TailUntil)
 	}
 	est := sampleset.EstimatePlan(plan)
-	s.AudioSeconds, s.Bytes, s.UpperBounds = est.AudioSeconds, est.Bytes, p.TailUntil > 0
+	s.AudioSeconds, s.Bytes, s.SpillBytes, s.UpperBounds = est.AudioSeconds, est.Bytes, est.SpillBytes, p.TailUntil > 0
 	if err := sampleset.DefaultLimits.Check(est); err != nil {
 		s.OverLimit = err.Error()
 	}
@@ -185,6 +189,9 @@ func printPlan(w io.Writer, s *planSummary) {
 		atMost = "at most "
 	}
 	fmt.Fprintf(w, "  bytes:    %s%d (%.1f MiB) into %s\n", atMost, s.Bytes, float64(s.Bytes)/(1<<20), s.OutputDir)
+	if s.SpillBytes > 0 {
+		fmt.Fprintf(w, "            and up to %d (%.1f MiB) of dense notes kept beside it between the passes: render needs free space for both\n", s.SpillBytes, float64(s.SpillBytes)/(1<<20))
+	}
 	fmt.Fprintf(w, "  work:     to compute %s in one render of each note\n", s.Work)
 	if s.TwoPasses {
 		fmt.Fprintf(w, "            (levelled as a whole, render renders again the notes it keeps no copy of, and reports those apart)\n")

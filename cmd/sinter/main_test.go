@@ -587,9 +587,9 @@ func TestCommandHelp(t *testing.T) {
 		flags      []string // some of the flags its help must list
 		json, keys bool
 	}{
-		{"render", []string{"-o DIR", "--keys LIST", "--jobs N", "--quiet", "--json", "--allow-large", "--force", "--shard K/N"}, true, true},
+		{"render", []string{"-o DIR", "--keys LIST", "--jobs N", "--quiet", "--json", "--allow-large", "--force", "--shard K/N", "--no-wait"}, true, true},
 		{"check", []string{"--keys LIST", "--json"}, true, true},
-		{"merge", []string{"-o DIR", "--json"}, true, false},
+		{"merge", []string{"-o DIR", "--json", "--no-wait"}, true, false},
 		{"verify", nil, false, false},
 		{"plot", []string{"--key C4", "--velocity V", "-o FILE.png", "--width W", "--height H"}, false, false},
 		{"init", nil, false, false},

@@ -7,19 +7,50 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
+	"strconv"
 	"strings"
 	"syscall"
 	"testing"
 	"time"
+
+	"sinter/synth/sampleset"
 )
 
 // runAsCLI, set in the environment, makes the test binary act as the
 // sinter command, so tests can run it as a real process: to read its peak
-// memory, or to interrupt it with a signal.
+// memory, or to interrupt or kill it.
 const runAsCLI = "SINTER_TEST_RUN_AS_CLI"
+
+// Read only by the test binary acting as the command: umaskEnv sets its
+// umask (octal) first, since a umask belongs to a process; stopAtEnv
+// names a sampleset.Stage at which a render stops — the goroutine that
+// reaches it says "stopped at STAGE" on stderr and sleeps, for the test to
+// kill the process at that very point.
+const (
+	umaskEnv  = "SINTER_TEST_UMASK"
+	stopAtEnv = "SINTER_TEST_STOP_AT"
+)
 
 func TestMain(m *testing.M) {
 	if os.Getenv(runAsCLI) == "1" {
+		if mask := os.Getenv(umaskEnv); mask != "" {
+			m, err := strconv.ParseUint(mask, 8, 32)
+			if err != nil {
+				fmt.Fprintf(os.Stderr, "%s=%q: %v\n", umaskEnv, mask, err)
+				os.Exit(exitUsage)
+			}
+			syscall.Umask(int(m))
+		}
+		if stage := os.Getenv(stopAtEnv); stage != "" {
+			reached = func(s sampleset.Stage) {
+				if s.String() == stage {
+					fmt.Fprintf(os.Stderr, "stopped at %s\n", s)
+					for {
+						time.Sleep(time.Hour)
+					}
+				}
+			}
+		}
 		os.Exit(run(os.Args[1:], os.Stdout, os.Stderr))
 	}
 	os.Exit(m.Run())

@@ -107,7 +107,7 @@ func intact(dir string, f manifest.File) bool {
 // where the file system allows it, else a copy.
 func (p *previous) reuse(f manifest.File, staging string) error {
 	from, to := filepath.Join(p.dir, filepath.FromSlash(f.Path)), filepath.Join(staging, filepath.FromSlash(f.Path))
-	if os.Link(from, to) == nil {
+	if disk.Link(from, to) == nil {
 		return nil
 	}
 	src, err := os.Open(from)

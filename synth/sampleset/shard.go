@@ -58,11 +58,13 @@ func (b *build) shardManifest() {
 }
 
 // Merge joins the shard folders of one set into dir: it checks they come
-// from plan's patch and this sinter version, are all the shards of one
-// split and hold every file once with the bytes their manifests record,
-// then writes the set — the files, the mapping and one manifest — exactly
-// as a single render would, replacing dir as Build does.
-func Merge(ctx context.Context, plan *patch.Plan, dir string, shards []string, version string) error {
+// from plan's patch and the sinter version opts.Version, are all the
+// shards of one split and hold every file once with the bytes their
+// manifests record, then writes the set — the files, the mapping and one
+// manifest — exactly as a single render would, replacing dir as Build
+// does, with its lock (opts.NoWait, opts.Notice).
+func Merge(ctx context.Context, plan *patch.Plan, dir string, shards []string, opts Options) error {
+	version := opts.Version
 	notes := plan.Notes
 	files := make([]manifest.File, len(notes))
 	from := make([]string, len(notes))
@@ -117,7 +119,12 @@ func Merge(ctx context.Context, plan *patch.Plan, dir string, shards []string, v
 	if err := checkReplaceable(dir); err != nil {
 		return err
 	}
-	staging, err := newStaging(dir)
+	out, err := claim(ctx, dir, opts)
+	if err != nil {
+		return err
+	}
+	defer out.release()
+	staging, err := out.newStaging()
 	if err != nil {
 		return err
 	}
@@ -151,5 +158,5 @@ func Merge(ctx context.Context, plan *patch.Plan, dir string, shards []string, v
 	if err != nil {
 		return err
 	}
-	return swap(staging, dir)
+	return out.swap(staging)
 }
