@@ -35,6 +35,13 @@ type Tuning struct {
 // Mapped reports whether the tuning gives key k a pitch.
 func (t *Tuning) Mapped(k int) bool { return t.Hz[k] > 0 }
 
+// Offset is how many cents key sounds away from where a sampler puts it by
+// repitching root's sample in 12-TET semitones: the scale's interval
+// between the two keys less 100 cents a key. Both keys must be mapped.
+func (t *Tuning) Offset(root, key int) float64 {
+	return 1200*math.Log2(t.Hz[key]/t.Hz[root]) - 100*float64(key-root)
+}
+
 // The frequencies a root key may sound at under a scale: wider than 12-TET
 // reaches from any a4 (1.86 Hz to 28.5 kHz), narrow enough that a typing
 // slip in a scale file is not rendered as silence or a click.

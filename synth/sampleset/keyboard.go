@@ -1,7 +1,6 @@
 package sampleset
 
 import (
-	"math"
 	"path/filepath"
 
 	"sinter/patch"
@@ -89,7 +88,7 @@ func noteRegions(n *patch.Note, t *patch.Tuning, r mapping.Region) []mapping.Reg
 		}
 		key := r
 		key.LowKey, key.HighKey = k, k
-		key.Transpose, key.Tune = mapping.PitchOffset(1200*math.Log2(t.Hz[k]/n.F0) - 100*float64(k-n.Key))
+		key.Transpose, key.Tune = mapping.PitchOffset(t.Offset(n.Key, k))
 		out = append(out, key)
 	}
 	return out
