@@ -5,6 +5,7 @@ import (
 	"encoding/hex"
 	"errors"
 	"fmt"
+	"io"
 	"math"
 	"os"
 	"path/filepath"
@@ -146,10 +147,7 @@ func (d *decoder) tuningFile(n *yaml.Node, path string, inc *Include) ([]byte, b
 		return nil, false
 	}
 	file := filepath.Join(filepath.Dir(d.file), name)
-	data, err := os.ReadFile(file)
-	if err == nil && len(data) > tuning.MaxFileBytes {
-		err = fmt.Errorf("it is %d bytes; scale files are limited to %d", len(data), tuning.MaxFileBytes)
-	}
+	data, err := readLimited(file, tuning.MaxFileBytes)
 	if err != nil {
 		d.errorf(d.resolve(n), path, "cannot read %s: %v", file, err)
 		return nil, false
@@ -202,4 +200,19 @@ func (p *Patch) keyHz(k int) float64 {
 		return p.Tuning.Hz[k]
 	}
 	return KeyFrequency(k, p.A4)
+}
+
+// readLimited reads a file of at most limit bytes, reading no further than
+// one byte past it, so a path naming a device or a huge file fails at once.
+func readLimited(file string, limit int64) ([]byte, error) {
+	f, err := os.Open(file)
+	if err != nil {
+		return nil, err
+	}
+	defer f.Close()
+	data, err := io.ReadAll(io.LimitReader(f, limit+1))
+	if err == nil && int64(len(data)) > limit {
+		err = fmt.Errorf("it holds more than %d bytes, the most a scale file may", limit)
+	}
+	return data, err
 }

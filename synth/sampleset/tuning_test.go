@@ -60,6 +60,12 @@ func loadTuned(t *testing.T, files map[string]string) (*patch.Plan, string) {
 			t.Fatal(err)
 		}
 	}
+	return loadIn(t, dir, "set"), dir
+}
+
+// loadIn loads dir/p.yaml, rendering into dir/out.
+func loadIn(t *testing.T, dir, out string) *patch.Plan {
+	t.Helper()
 	p, err := patch.Load(filepath.Join(dir, "p.yaml"))
 	if err != nil {
 		t.Fatal(err)
@@ -68,8 +74,8 @@ func loadTuned(t *testing.T, files map[string]string) (*patch.Plan, string) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	plan.OutputDir = filepath.Join(dir, "set")
-	return plan, dir
+	plan.OutputDir = filepath.Join(dir, out)
+	return plan
 }
 
 // sfzRegion is one <region> line of a mapping, read field by field as
@@ -458,5 +464,42 @@ func TestVerifyChecksTuning(t *testing.T) {
 				t.Errorf("verify reports %q, want …%s…", problems, c.want)
 			}
 		})
+	}
+}
+
+// TestTunedShardsMerge: a tuned set rendered in two shards merges into
+// the set a single render makes, byte for byte; shards rendered before
+// the scale file was edited are refused.
+func TestTunedShardsMerge(t *testing.T) {
+	single, dir := loadTuned(t, map[string]string{"just.scl": justScale, "white.kbm": whiteKeys,
+		"p.yaml": "name: m\nsample_rate: 8000\nhold: 0.1\ntail: 0.05\ntuning: {scale: just.scl, keymap: white.kbm}\nkeys: [C4, E4, G4, C5]\nvelocities: [60, 120]\nlayer_crossfade: 8\npartials: [{harmonics: 2}]\n"})
+	build(t, single, 2)
+	var shards []string
+	for k := 1; k <= 2; k++ {
+		plan := loadIn(t, dir, fmt.Sprintf("shard%d", k))
+		if _, err := sampleset.Build(context.Background(), plan, sampleset.Options{Jobs: 2, Version: "test", Shard: sampleset.Shard{Index: k, Count: 2}}); err != nil {
+			t.Fatal(err)
+		}
+		shards = append(shards, plan.OutputDir)
+	}
+	merged := loadIn(t, dir, "merged")
+	if err := sampleset.Merge(context.Background(), merged, merged.OutputDir, shards, sampleset.Options{Version: "test"}); err != nil {
+		t.Fatal(err)
+	}
+	a, b := snapshot(t, single.OutputDir), snapshot(t, merged.OutputDir)
+	if len(a) != len(b) {
+		t.Fatalf("%d files and %d", len(a), len(b))
+	}
+	for f, sum := range a {
+		if b[f] != sum {
+			t.Errorf("%s differs between the single render and the merged shards", f)
+		}
+	}
+	if err := os.WriteFile(filepath.Join(dir, "just.scl"), []byte(strings.Replace(justScale, "5/4", "81/64", 1)), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	edited := loadIn(t, dir, "again")
+	if err := sampleset.Merge(context.Background(), edited, edited.OutputDir, shards, sampleset.Options{Version: "test"}); err == nil || !strings.Contains(err.Error(), "other scale files") {
+		t.Errorf("merging shards of the scale before its edit: %v", err)
 	}
 }
