@@ -25,6 +25,8 @@ type Plan struct {
 	OutputDir   string
 	Includes    []Include // files the patch pulled partial groups from
 	Notes       []Note
+	// Tuning is the scale that tunes the keyboard; nil for 12-TET.
+	Tuning *Tuning
 }
 
 // Note is one output file: a root key played at one velocity.
@@ -39,6 +41,10 @@ type Note struct {
 	KeyHigh    int    // highest MIDI key this file serves
 	VelLow     int    // lowest velocity this file serves
 	VelHigh    int    // highest velocity this file serves
+	// VelocityFade is where the layer cross-fades with its neighbours;
+	// nil without a crossfade (left out of the render key's encoding, so
+	// notes without one key as they always have).
+	VelocityFade *VelocityFade `json:",omitempty"`
 
 	F0         float64 // fundamental in Hz
 	SampleRate int
@@ -169,6 +175,7 @@ func (p *Patch) Expand(opts ExpandOptions) (*Plan, error) {
 		Name: p.Name, PatchFile: p.File, PatchSHA256: hex.EncodeToString(p.SHA256[:]),
 		SampleRate: p.SampleRate, BitDepth: p.BitDepth, Channels: p.Channels,
 		Normalize: p.Normalize, Dither: p.Dither, OutputDir: p.OutputDir, Includes: p.Includes,
+		Tuning: p.Tuning,
 	}
 	rate := float64(p.SampleRate)
 	frames := max(1, int(math.Round((p.Hold+p.Tail)*rate)))
@@ -176,14 +183,14 @@ func (p *Patch) Expand(opts ExpandOptions) (*Plan, error) {
 	for ki, key := range keys {
 		keyLow, keyHigh := splitRange(keys, ki)
 		for vi, vel := range p.Velocities {
-			velLow, velHigh := splitLayers(p.Velocities, vi)
+			velLow, velHigh, fade := layerRange(p.Velocities, vi, p.LayerCrossfade)
 			for variation := range p.RoundRobin {
 				plan.Notes = append(plan.Notes, Note{
 					File: fileName(p.Name, key, vel, variation, p.RoundRobin),
 					Key:  key, Velocity: vel, Variation: variation, Variations: p.RoundRobin,
 					Seed:   deriveSeed(p.Seed, uint64(key), uint64(vel), uint64(variation)),
-					KeyLow: keyLow, KeyHigh: keyHigh, VelLow: velLow, VelHigh: velHigh,
-					F0: KeyFrequency(key, p.A4), SampleRate: p.SampleRate, Channels: p.Channels,
+					KeyLow: keyLow, KeyHigh: keyHigh, VelLow: velLow, VelHigh: velHigh, VelocityFade: fade,
+					F0: p.keyHz(key), SampleRate: p.SampleRate, Channels: p.Channels,
 					Frames: frames, NoteOff: noteOff,
 				})
 			}
@@ -280,19 +287,6 @@ func splitRange(roots []int, i int) (low, high int) {
 	}
 	if i+1 < len(roots) {
 		high = roots[i] + (roots[i+1]-roots[i]-1)/2
-	}
-	return low, high
-}
-
-// splitLayers gives velocity layer i the velocities above the layer below
-// it up to its own; the top layer reaches 127.
-func splitLayers(vels []int, i int) (low, high int) {
-	low, high = 1, vels[i]
-	if i > 0 {
-		low = vels[i-1] + 1
-	}
-	if i == len(vels)-1 {
-		high = 127
 	}
 	return low, high
 }

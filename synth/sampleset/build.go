@@ -186,7 +186,7 @@ func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error)
 	b.commits = &commits{slots: make(chan struct{}, 2*len(b.workers)), fail: fail}
 	b.manifest = &manifest.Manifest{
 		Sinter:    opts.Version,
-		Patch:     manifest.Patch{Name: plan.Name, SHA256: plan.PatchSHA256, Includes: includes(plan)},
+		Patch:     manifestPatch(plan),
 		Levelling: plan.Normalize.String(),
 		Mapping:   plan.Name + ".sfz",
 		Files:     make([]manifest.File, len(notes)),
@@ -244,7 +244,7 @@ func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error)
 	m := b.manifest
 	if opts.Shard.Count > 1 {
 		b.shardManifest()
-	} else if err := writeMapping(filepath.Join(staging, m.Mapping), notes, b.loops, b.looped, plan.Name); err != nil {
+	} else if err := writeMapping(filepath.Join(staging, m.Mapping), plan, b.loops, b.looped); err != nil {
 		return nil, err
 	}
 	if err := writeAtomically(filepath.Join(staging, manifest.FileName), func(w io.Writer) error { return manifest.Write(w, m) }); err != nil {
@@ -264,16 +264,6 @@ func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error)
 // does.
 func (b *build) each(ctx context.Context, idx []int, fn func(w *worker, i int) error) error {
 	return forEach(ctx, b.workers, len(idx), func(w *worker, j int) error { return fn(w, idx[j]) })
-}
-
-// includes lists the plan's included files for the manifest, with
-// '/'-separated paths.
-func includes(plan *patch.Plan) []manifest.Include {
-	var list []manifest.Include
-	for _, in := range plan.Includes {
-		list = append(list, manifest.Include{Path: filepath.ToSlash(in.Path), SHA256: in.SHA256})
-	}
-	return list
 }
 
 // build is the state of one Build, indexed by note. Workers write only
@@ -479,6 +469,7 @@ func manifestEntry(n *patch.Note, bitDepth, frames int, gain float64, lv levels,
 		PeakDBFS: roundDB(decibels(lv.peak)), TruePeakDBTP: roundDB(decibels(lv.truePeak)),
 		LoudnessLUFS: roundDB(lv.loudness), GainDB: decibels(gain), Partials: len(n.Partials),
 	}
+	f.VelocityFadeIn, f.VelocityFadeOut = fades(n)
 	if loop != nil {
 		seam, inside := synth.SeamStep(buf, n.Channels, *loop)
 		ratio := 0.0
@@ -603,18 +594,18 @@ func writeWAV(path string, buf []float64, n *patch.Note, plan *patch.Plan, loop 
 	return hex.EncodeToString(h.Sum(nil)), commit, err
 }
 
-func writeMapping(path string, notes []patch.Note, loops []synth.Loop, looped []bool, title string) error {
-	regions := make([]mapping.Region, len(notes))
+func writeMapping(path string, plan *patch.Plan, loops []synth.Loop, looped []bool) error {
+	var regions []mapping.Region
 	release := 0.0
-	for i, n := range notes {
-		regions[i] = mapping.Region{Sample: n.File, Root: n.Key, LowKey: n.KeyLow, HighKey: n.KeyHigh, LowVel: n.VelLow, HighVel: n.VelHigh,
+	for i, n := range plan.Notes {
+		regions = append(regions, noteRegions(&n, plan.Tuning, mapping.Region{Sample: n.File, Root: n.Key, LowKey: n.KeyLow, HighKey: n.KeyHigh, LowVel: n.VelLow, HighVel: n.VelHigh,
 			Looped: looped[i], LoopStart: loops[i].Start, LoopEnd: loops[i].End,
-			SeqPosition: n.Variation + 1, SeqLength: n.Variations}
+			SeqPosition: n.Variation + 1, SeqLength: n.Variations})...)
 		for _, p := range n.Partials {
 			release = max(release, p.Envelope.Release)
 		}
 	}
 	return writeAtomically(path, func(w io.Writer) error {
-		return mapping.WriteSFZ(w, regions, mapping.Options{Title: title + ", rendered by sinter", Release: release})
+		return mapping.WriteSFZ(w, regions, mapping.Options{Title: plan.Name + ", rendered by sinter", Release: release})
 	})
 }

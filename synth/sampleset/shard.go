@@ -91,6 +91,8 @@ func Merge(ctx context.Context, plan *patch.Plan, dir string, shards []string, o
 			return fmt.Errorf("cannot merge %s: it is a whole set, not a shard", shardDir)
 		case m.Patch.SHA256 != plan.PatchSHA256:
 			return fmt.Errorf("cannot merge %s: it was rendered from another patch (or another version of %s)", shardDir, plan.PatchFile)
+		case !sameTuning(m.Patch, manifestPatch(plan)):
+			return fmt.Errorf("cannot merge %s: it was rendered with other scale files than %s names now", shardDir, plan.PatchFile)
 		case m.Sinter != version:
 			return fmt.Errorf("cannot merge %s: it was rendered by sinter %s, this is %s", shardDir, m.Sinter, version)
 		case count != 0 && m.Shard.Count != count:
@@ -147,13 +149,13 @@ func Merge(ctx context.Context, plan *patch.Plan, dir string, shards []string, o
 	}
 	m := &manifest.Manifest{
 		Sinter:    version,
-		Patch:     manifest.Patch{Name: plan.Name, SHA256: plan.PatchSHA256, Includes: includes(plan)},
+		Patch:     manifestPatch(plan),
 		Levelling: plan.Normalize.String(),
 		Mapping:   plan.Name + ".sfz",
 		Files:     files,
 	}
 	err = errors.Join(
-		writeMapping(filepath.Join(staging, m.Mapping), notes, loops, looped, plan.Name),
+		writeMapping(filepath.Join(staging, m.Mapping), plan, loops, looped),
 		writeAtomically(filepath.Join(staging, manifest.FileName), func(w io.Writer) error { return manifest.Write(w, m) }))
 	if err != nil {
 		return err
