@@ -13,6 +13,7 @@ import (
 	"testing"
 	"time"
 
+	"sinter/synth/kernel"
 	"sinter/synth/sampleset"
 )
 
@@ -187,4 +188,40 @@ func fileHashes(t *testing.T, dir string) map[string][32]byte {
 		sums[e.Name()] = sha256.Sum256(data)
 	}
 	return sums
+}
+
+// TestKernelChoice runs sinter with SINTER_KERNEL set, in a process of its
+// own because the kernel is chosen when the program starts: --version names
+// the kernel in use and why; every kernel the processor runs can be
+// forced; a name sinter does not know (an empty one too), or a kernel the
+// processor cannot run, is refused with exit 2 before anything else
+// happens.
+func TestKernelChoice(t *testing.T) {
+	run := func(env []string, args ...string) (string, int) {
+		cmd := command(args...)
+		cmd.Env = append(cmd.Env, env...)
+		out, _ := cmd.CombinedOutput()
+		return string(out), cmd.ProcessState.ExitCode()
+	}
+	force := func(name string) []string { return []string{kernel.EnvironmentVariable + "=" + name} }
+	out, code := run(nil, "--version")
+	if code != exitOK || !strings.Contains(out, "("+kernel.Active().String()+" kernel: "+kernel.Reason()+")") {
+		t.Errorf("--version: exit %d, %q; want the kernel %s and why", code, out, kernel.Active())
+	}
+	for _, isa := range kernel.Supported() {
+		out, code := run(force(isa.String()), "--version")
+		if code != exitOK || !strings.Contains(out, "("+isa.String()+" kernel: forced by SINTER_KERNEL="+isa.String()) {
+			t.Errorf("SINTER_KERNEL=%s: exit %d, %q", isa, code, out)
+		}
+	}
+	refused := []string{"neon", ""}
+	if best := kernel.Supported()[len(kernel.Supported())-1]; best < kernel.AVX512 {
+		refused = append(refused, (best + 1).String())
+	}
+	for _, name := range refused {
+		out, code := run(force(name), "check", "no-such.yaml")
+		if code != exitUsage || !strings.Contains(out, "SINTER_KERNEL") {
+			t.Errorf("SINTER_KERNEL=%q: exit %d, %q; want exit %d naming the variable", name, code, out, exitUsage)
+		}
+	}
 }
