@@ -22,6 +22,7 @@ import (
 
 	"sinter/patch"
 	"sinter/synth"
+	"sinter/synth/flac"
 	"sinter/synth/kernel"
 	"sinter/synth/loudness"
 	"sinter/synth/manifest"
@@ -184,13 +185,7 @@ func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error)
 	ctx, fail := context.WithCancelCause(ctx)
 	defer fail(nil)
 	b.commits = &commits{slots: make(chan struct{}, 2*len(b.workers)), fail: fail}
-	b.manifest = &manifest.Manifest{
-		Sinter:    opts.Version,
-		Patch:     manifest.Patch{Name: plan.Name, SHA256: plan.PatchSHA256, Includes: includes(plan)},
-		Levelling: plan.Normalize.String(),
-		Mapping:   plan.Name + ".sfz",
-		Files:     make([]manifest.File, len(notes)),
-	}
+	b.manifest = newManifest(plan, opts.Version, make([]manifest.File, len(notes)))
 
 	norm := plan.Normalize
 	if norm.Measure == patch.MeasureOff || norm.Scope == patch.ScopeFile {
@@ -264,6 +259,30 @@ func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error)
 // does.
 func (b *build) each(ctx context.Context, idx []int, fn func(w *worker, i int) error) error {
 	return forEach(ctx, b.workers, len(idx), func(w *worker, j int) error { return fn(w, idx[j]) })
+}
+
+// newManifest is the manifest of plan's set, rendered by sinter version,
+// holding files.
+func newManifest(plan *patch.Plan, version string, files []manifest.File) *manifest.Manifest {
+	norm := plan.Normalize
+	ceiling := &manifest.Ceiling{Level: norm.Ceiling, Unit: "dBFS"}
+	if norm.CeilingTruePeak {
+		ceiling.Unit = "dBTP"
+	}
+	if norm.Measure == patch.MeasureOff {
+		// Without levelling nothing lowers a file, and full scale is
+		// where an integer file clips.
+		ceiling.Level = 0
+		ceiling.Unit = "dBFS"
+	}
+	return &manifest.Manifest{
+		Sinter:    version,
+		Patch:     manifest.Patch{Name: plan.Name, SHA256: plan.PatchSHA256, Includes: includes(plan)},
+		Levelling: norm.String(),
+		Mapping:   plan.Name + ".sfz",
+		Ceiling:   ceiling,
+		Files:     files,
+	}
 }
 
 // includes lists the plan's included files for the manifest, with
@@ -412,7 +431,7 @@ func (b *build) keep(i int, f manifest.File) error {
 }
 
 // finish applies note i's gain to buf, trims its tail, measures it and
-// writes its WAV file and manifest entry.
+// writes its sample file and manifest entry.
 func (b *build) finish(w *worker, i int, buf []float64) error {
 	n := &b.plan.Notes[i]
 	synth.Scale(buf, b.gains[i])
@@ -431,7 +450,7 @@ func (b *build) finish(w *worker, i int, buf []float64) error {
 	if b.looped[i] {
 		loop = &b.loops[i]
 	}
-	sum, commit, err := writeWAV(filepath.Join(b.staging, n.File), buf, n, b.plan, loop)
+	sum, commit, err := writeSamples(filepath.Join(b.staging, n.File), buf, n, b.plan, loop)
 	if err != nil {
 		return err
 	}
@@ -472,7 +491,7 @@ func roundDB(db float64) float64 {
 
 func manifestEntry(n *patch.Note, bitDepth, frames int, gain float64, lv levels, buf []float64, loop *synth.Loop) manifest.File {
 	f := manifest.File{
-		Path: n.File, Key: n.Key, Note: patch.NoteName(n.Key), Velocity: n.Velocity,
+		Path: n.File, Key: n.Key, Note: patch.NoteName(n.Key), F0Hz: n.F0, Velocity: n.Velocity,
 		KeyRange: [2]int{n.KeyLow, n.KeyHigh}, VelocityRange: [2]int{n.VelLow, n.VelHigh},
 		SampleRate: n.SampleRate, BitDepth: bitDepth, Channels: n.Channels, Frames: frames,
 		Variation: n.Variation + 1, Variations: n.Variations,
@@ -573,9 +592,10 @@ feed:
 	return context.Cause(ctx)
 }
 
-// writeWAV encodes one note and returns the file's SHA-256 in hex, and
-// commit, which syncs the file and gives it its name (see writeUnsynced).
-func writeWAV(path string, buf []float64, n *patch.Note, plan *patch.Plan, loop *synth.Loop) (sum string, commit func() error, err error) {
+// writeSamples encodes one note in the plan's format and returns the
+// file's SHA-256 in hex, and commit, which syncs the file and gives it
+// its name (see writeUnsynced).
+func writeSamples(path string, buf []float64, n *patch.Note, plan *patch.Plan, loop *synth.Loop) (sum string, commit func() error, err error) {
 	sampler := &wav.Sampler{UnityNote: uint8(n.Key)}
 	if loop != nil {
 		sampler.Loops = []wav.Loop{{Start: uint32(loop.Start), End: uint32(loop.End)}}
@@ -596,10 +616,15 @@ func writeWAV(path string, buf []float64, n *patch.Note, plan *patch.Plan, loop 
 			LowVelocity: uint8(n.VelLow), HighVelocity: uint8(n.VelHigh),
 		},
 	}
+	encode := func(w io.Writer) error { return wav.Encode(w, buf, opts) }
+	if plan.Format == patch.FormatFLAC {
+		encode = func(w io.Writer) error {
+			return flac.Encode(w, buf, flac.Options{SampleRate: opts.SampleRate, BitDepth: opts.BitDepth, Channels: opts.Channels,
+				Dither: opts.Dither, DitherSeed: opts.DitherSeed, Sampler: opts.Sampler, Instrument: opts.Instrument})
+		}
+	}
 	h := sha256.New()
-	commit, err = writeUnsynced(path, func(w io.Writer) error {
-		return wav.Encode(io.MultiWriter(w, h), buf, opts)
-	})
+	commit, err = writeUnsynced(path, func(w io.Writer) error { return encode(io.MultiWriter(w, h)) })
 	return hex.EncodeToString(h.Sum(nil)), commit, err
 }
 

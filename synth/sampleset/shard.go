@@ -145,13 +145,7 @@ func Merge(ctx context.Context, plan *patch.Plan, dir string, shards []string, o
 	for i := range notes {
 		loops[i], looped[i] = synth.PlanLoop(&notes[i])
 	}
-	m := &manifest.Manifest{
-		Sinter:    version,
-		Patch:     manifest.Patch{Name: plan.Name, SHA256: plan.PatchSHA256, Includes: includes(plan)},
-		Levelling: plan.Normalize.String(),
-		Mapping:   plan.Name + ".sfz",
-		Files:     files,
-	}
+	m := newManifest(plan, version, files)
 	err = errors.Join(
 		writeMapping(filepath.Join(staging, m.Mapping), notes, loops, looped, plan.Name),
 		writeAtomically(filepath.Join(staging, manifest.FileName), func(w io.Writer) error { return manifest.Write(w, m) }))
