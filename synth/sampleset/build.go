@@ -56,6 +56,10 @@ type Options struct {
 	// Reached, if set, is called as the build passes each Stage, from the
 	// goroutine that reaches it.
 	Reached func(Stage)
+	// Extras, if set, writes more files into a whole set (not a shard)
+	// once its files, mapping and manifest are in the staging folder,
+	// before it replaces the output folder: the review page.
+	Extras Extras
 }
 
 // Stage is a point a build passes, told to Options.Reached.
@@ -244,6 +248,11 @@ func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error)
 	}
 	if err := writeAtomically(filepath.Join(staging, manifest.FileName), func(w io.Writer) error { return manifest.Write(w, m) }); err != nil {
 		return nil, err
+	}
+	if opts.Extras != nil && opts.Shard.Count <= 1 {
+		if err := opts.Extras(staging, writerIn(staging)); err != nil {
+			return nil, err
+		}
 	}
 	if err := ctx.Err(); err != nil {
 		return nil, err
