@@ -121,6 +121,7 @@
         if (voices.get(key) !== list) return; // let go before the sample arrived
         const v = startVoice(audio, master, r, buffer, key, audio.currentTime);
         list.push(v);
+        if (record.length >= 1000) record.shift(); // a long session keeps the latest notes only
         record.push({
           key, velocity, sample: r.sample, root: r.root, line: r.line,
           playbackRate: v.src.playbackRate.value, loop: v.src.loop,
@@ -306,6 +307,7 @@
     el("viewer-img").src = encodeURI(file.picture);
     el("viewer-img").alt = "Spectrum and one period of " + file.path;
     el("viewer-caption").textContent = file.path + ": spectrum and one period, measured from the file.";
+    v.scrollIntoView({ block: "nearest" });
   }
   function buildTable() {
     const body = document.querySelector("#files tbody");
@@ -315,6 +317,22 @@
       const name = document.createElement("td");
       name.textContent = f.path;
       row.appendChild(name);
+      const pic = document.createElement("td");
+      if (f.picture) {
+        const b = document.createElement("button");
+        b.type = "button";
+        b.setAttribute("aria-label", "Show the picture of " + f.path);
+        const img = document.createElement("img");
+        img.src = encodeURI(f.picture);
+        img.alt = "";
+        img.loading = "lazy";
+        b.appendChild(img);
+        b.addEventListener("click", () => showPicture(f, row));
+        pic.appendChild(b);
+      } else {
+        pic.textContent = "none";
+      }
+      row.appendChild(pic);
       cell(row, f.note + " (" + f.key + ")");
       cell(row, f.velocity + " (" + f.velocity_range[0] + "–" + f.velocity_range[1] + ")");
       cell(row, f.variation + " of " + f.variations);
@@ -335,22 +353,6 @@
         cell(row, "");
       }
       if (isOver) marks++;
-      const pic = document.createElement("td");
-      if (f.picture) {
-        const b = document.createElement("button");
-        b.type = "button";
-        b.setAttribute("aria-label", "Show the picture of " + f.path);
-        const img = document.createElement("img");
-        img.src = encodeURI(f.picture);
-        img.alt = "";
-        img.loading = "lazy";
-        b.appendChild(img);
-        b.addEventListener("click", () => showPicture(f, row));
-        pic.appendChild(b);
-      } else {
-        pic.textContent = "none";
-      }
-      row.appendChild(pic);
       body.appendChild(row);
     }
     el("files-note").textContent = data.files.length + " files. Ceiling " + data.ceiling.level + " " + data.ceiling.unit +
