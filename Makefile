@@ -23,17 +23,24 @@ demo: build
 	done
 
 # Every test, the committed assembly checked against its generator, then a
-# short bounded run of each fuzz target.
+# short bounded run of each fuzz target. The review page's tests run in
+# Chromium, which tools installs; SINTER_BROWSER=required makes them fail
+# rather than skip without it.
 test: tools asm-check
 	$(GO) vet ./...
-	$(GO) test ./...
+	SINTER_BROWSER=required $(GO) test ./...
 	@$(MAKE) --no-print-directory fuzz FUZZTIME=3s
 
 # The kernel package's encoding test reads the kernels with GNU objdump
 # (binutils), which Go's own disassembler cannot replace: it does not
 # decode AVX-512. Installed from the distribution where it is missing.
+#
+# The review page's tests drive Debian's chromium (headless) through
+# chromedp, so they need the browser itself; also installed where it is
+# missing.
 tools:
 	@command -v objdump >/dev/null || { apt-get update -qq && apt-get install -y -qq binutils >/dev/null; }
+	@command -v chromium >/dev/null || { apt-get update -qq && DEBIAN_FRONTEND=noninteractive apt-get install -y -qq chromium >/dev/null; }
 
 # Regenerate the kernels' assembly into a temporary folder with its avo
 # generator (synth/kernel/asm) and fail if it differs from what is

@@ -54,7 +54,29 @@ type Patch struct {
 	// order they were read.
 	Includes  []Include
 	OutputDir string // resolved against the patch file's folder
+	Format    Format // the files' format
 }
+
+// Format is the file format a set's samples are written in.
+type Format int
+
+// The formats: WAV, or FLAC (RFC 9639), lossless and smaller, for integer
+// samples only.
+const (
+	FormatWAV Format = iota
+	FormatFLAC
+)
+
+// Ext is the format's file extension, with its dot.
+func (f Format) Ext() string {
+	if f == FormatFLAC {
+		return ".flac"
+	}
+	return ".wav"
+}
+
+// String is the format's name in a patch: wav or flac.
+func (f Format) String() string { return f.Ext()[1:] }
 
 // Measure is what levelling measures and sets.
 type Measure int
@@ -292,6 +314,7 @@ func (d *decoder) patch(root *yaml.Node, p *Patch) {
 	var keysNode, partialsNode, envelopeNode, tailNode, holdNode *yaml.Node
 	var scaleNode, keymapNode, a4Node, crossfadeNode *yaml.Node
 	outputDir := ""
+	var formatNode *yaml.Node
 	d.fields(root, "", topKeys, func(key string, v *yaml.Node, path string) {
 		switch key {
 		case "name":
@@ -357,7 +380,13 @@ func (d *decoder) patch(root *yaml.Node, p *Patch) {
 		case "partials":
 			partialsNode = v
 		case "output":
-			d.fields(v, path, []string{"dir"}, func(_ string, v *yaml.Node, path string) {
+			d.fields(v, path, []string{"dir", "format"}, func(key string, v *yaml.Node, path string) {
+				if key == "format" {
+					if d.word(v, path, formatRule) == "flac" {
+						p.Format, formatNode = FormatFLAC, v
+					}
+					return
+				}
 				dir, ok := d.text(v, path)
 				if ok && !localPath(dir) {
 					d.errorf(d.resolve(v), path, "output dir %q must be a path inside the patch's folder, without '..' or a leading '/'; to render elsewhere, pass -o on the command line", clip(dir))
@@ -377,6 +406,10 @@ func (d *decoder) patch(root *yaml.Node, p *Patch) {
 			at, path = holdNode, "hold"
 		}
 		d.errorf(at, path, "hold + tail is %g s; a file may last at most %d s", p.Hold+p.Tail, MaxSeconds)
+	}
+	if p.Format == FormatFLAC && p.BitDepth == 32 {
+		// FLAC holds integer samples only (RFC 9639, section 9.2).
+		d.errorf(d.resolve(formatNode), "output.format", "FLAC holds integer samples, and bit_depth 32 is floating point; use bit_depth 16 or 24, or format wav")
 	}
 	if p.Hold+p.Tail == 0 {
 		at, path := tailNode, "tail"

@@ -517,6 +517,23 @@ partials: [{ratio: 1}]
 		line: 2, column: 15, path: "output.dir", msg: `output dir "../../etc" must be a path inside the patch's folder`,
 	},
 	{
+		name: "output format unknown",
+		src: `name: harbor-glass
+output: {format: mp3}
+partials: [{ratio: 1}]
+`,
+		line: 2, column: 18, path: "output.format", msg: `"mp3" is not a file format; expected one of wav, flac`,
+	},
+	{
+		name: "output format flac of float samples",
+		src: `name: harbor-glass
+bit_depth: 32
+output: {format: flac}
+partials: [{ratio: 1}]
+`,
+		line: 3, column: 18, path: "output.format", msg: "FLAC holds integer samples, and bit_depth 32 is floating point",
+	},
+	{
 		name: "output dir absolute",
 		src: `name: harbor-glass
 output: {dir: /var/tmp/set}

@@ -22,6 +22,7 @@ type Plan struct {
 	Channels    int
 	Normalize   Normalize
 	Dither      bool // TPDF dither for integer formats
+	Format      Format
 	OutputDir   string
 	Includes    []Include // files the patch pulled partial groups from
 	Notes       []Note
@@ -175,7 +176,7 @@ func (p *Patch) Expand(opts ExpandOptions) (*Plan, error) {
 		Name: p.Name, PatchFile: p.File, PatchSHA256: hex.EncodeToString(p.SHA256[:]),
 		SampleRate: p.SampleRate, BitDepth: p.BitDepth, Channels: p.Channels,
 		Normalize: p.Normalize, Dither: p.Dither, OutputDir: p.OutputDir, Includes: p.Includes,
-		Tuning: p.Tuning,
+		Tuning: p.Tuning, Format: p.Format,
 	}
 	rate := float64(p.SampleRate)
 	frames := max(1, int(math.Round((p.Hold+p.Tail)*rate)))
@@ -186,7 +187,7 @@ func (p *Patch) Expand(opts ExpandOptions) (*Plan, error) {
 			velLow, velHigh, fade := layerRange(p.Velocities, vi, p.LayerCrossfade)
 			for variation := range p.RoundRobin {
 				plan.Notes = append(plan.Notes, Note{
-					File: fileName(p.Name, key, vel, variation, p.RoundRobin),
+					File: fileName(p.Name, key, vel, variation, p.RoundRobin) + p.Format.Ext(),
 					Key:  key, Velocity: vel, Variation: variation, Variations: p.RoundRobin,
 					Seed:   deriveSeed(p.Seed, uint64(key), uint64(vel), uint64(variation)),
 					KeyLow: keyLow, KeyHigh: keyHigh, VelLow: velLow, VelHigh: velHigh, VelocityFade: fade,
@@ -246,14 +247,14 @@ func (x *expander) note(n *Note, frames, noteOff int, rate float64) {
 	x.loop(n)
 }
 
-// fileName builds NAME_KKK_NOTE_vVVV.wav, with _rrK (1-based) when the
-// set has round-robin variations.
+// fileName builds NAME_KKK_NOTE_vVVV, with _rrK (1-based) when the set
+// has round-robin variations; the format's extension follows.
 func fileName(name string, key, vel, variation, variations int) string {
 	base := fmt.Sprintf("%s_%03d_%s_v%03d", name, key, FileNoteName(key), vel)
 	if variations > 1 {
 		base += fmt.Sprintf("_rr%d", variation+1)
 	}
-	return base + ".wav"
+	return base
 }
 
 // LongestRelease is the longest release time among partials, in seconds.

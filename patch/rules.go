@@ -121,6 +121,7 @@ var (
 	// A loop shorter than 20 ms is not worth writing.
 	loopLengthRule = newRule(Rule{At: "loop.length", Kind: ValueNumber, Min: 0.02, Max: MaxSeconds, Unit: " s"})
 	crossfadeRule  = newRule(Rule{At: "loop.crossfade", Kind: ValueNumber, Min: 0.001, Max: 10, Unit: " s"})
+	formatRule     = newRule(Rule{At: "output.format", Kind: ValueWords, Words: []string{"wav", "flac"}, Noun: "a file format"})
 	roundRobinRule = newRule(Rule{At: "round_robin", Kind: ValueInteger, Min: 1, Max: MaxRoundRobin})
 	// The seed is at most 2^53, the largest whole number every JSON
 	// reader holds exactly.

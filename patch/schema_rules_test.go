@@ -88,6 +88,7 @@ var rangeCases = map[string]rangeCase{
 	"loop.length":    {places: []place{top("loop: {length: %s, crossfade: 0.001}")}},
 	"loop.crossfade": {places: []place{top("hold: 60\nloop: {length: 60, crossfade: %s}")}},
 	"round_robin":    {places: []place{top("round_robin: %s")}},
+	"output.format":  {places: []place{top("output: {format: %s}")}},
 	"seed":           {places: []place{top("seed: %s")}},
 	"partials":       {places: []place{listOf("partials: %s", func(int) string { return "{ratio: 1}" })}},
 	"body":           {places: []place{listOf("body: %s", func(i int) string { return fmt.Sprintf("[%d, 0]", i+1) })}},

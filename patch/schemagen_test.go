@@ -215,7 +215,7 @@ func generateSchema(t *testing.T) []byte {
 		"envelope", ref("envelope"),
 		"partials", b.list("partials", anyOf(ref("group"), include())),
 		"body", described(b.points("body"), "Spectral envelope: [hz, dB] points with rising frequencies."),
-		"output", object("dir", text("Relative to the patch's folder and inside it.")),
+		"output", object("dir", text("Relative to the patch's folder and inside it."), "format", b.value("output.format")),
 	)
 	top.Required = []string{"name", "partials"}
 	amplitude := text("An expression of n, ratio, hz, f0, key and vel, or a level in dB such as \"-6 dB\".")

@@ -47,6 +47,7 @@ type planSummary struct {
 	SampleRate   int     `json:"sample_rate"`
 	BitDepth     int     `json:"bit_depth"`
 	Channels     int     `json:"channels"`
+	FileFormat   string  `json:"file_format"`   // wav or flac
 	AudioSeconds float64 `json:"audio_seconds"` // an upper bound when tails end by level
 	TailUntilDB  float64 `json:"tail_until_dbfs,omitempty"`
 	FileSeconds  float64 `json:"file_seconds"`
@@ -56,7 +57,8 @@ type planSummary struct {
 	// set, and refuses at once without it.
 	SpillBytes int64 `json:"spill_bytes"`
 	// UpperBounds says that audio_seconds and bytes are the most a render
-	// writes: tails end by level, which only rendering finds.
+	// writes: tails end by level, which only rendering finds. Bytes of
+	// FLAC files are the most they can take in any case.
 	UpperBounds bool `json:"lengths_are_upper_bounds,omitempty"`
 	// TwoPasses says levelling needs every note measured before the first
 	// is written, so render may render some notes twice.
@@ -169,7 +171,7 @@ type loopPlan struct {
 func summarize(plan *patch.Plan, p *patch.Patch) planSummary {
 	s := planSummary{
 		Patch: plan.PatchFile, Name: plan.Name, Files: len(plan.Notes), Layers: len(p.Velocities), RoundRobins: p.RoundRobin,
-		SampleRate: plan.SampleRate, BitDepth: plan.BitDepth, Channels: plan.Channels, FileSeconds: p.Hold + p.Tail,
+		SampleRate: plan.SampleRate, BitDepth: plan.BitDepth, Channels: plan.Channels, FileFormat: plan.Format.String(), FileSeconds: p.Hold + p.Tail,
 		OutputDir: plan.OutputDir, BandLimit: p.BandLimit, BandLimitHz: p.BandLimit * float64(p.SampleRate),
 		BandFadeHz: p.BandLimit * (1 - p.BandFade) * float64(p.SampleRate),
 		Levelling:  p.Normalize.String(), Dither: plan.Dither && plan.BitDepth != 32,
@@ -282,6 +284,9 @@ func printPlan(w io.Writer, s *planSummary) {
 	if s.BitDepth == 32 {
 		format = "32-bit float"
 	}
+	if s.FileFormat == "flac" {
+		format = fmt.Sprintf("%d-bit FLAC", s.BitDepth)
+	}
 	fmt.Fprintf(w, "patch %s (%s)\n", s.Name, s.Patch)
 	fmt.Fprintf(w, "  files:    %d (%s x %s x %s)\n", s.Files, count(s.Keys, "key"), count(s.Layers, "velocity layer"), count(s.RoundRobins, "round robin"))
 	fmt.Fprintf(w, "  format:   %d Hz, %s, %s\n", s.SampleRate, format, channels)
@@ -291,7 +296,7 @@ func printPlan(w io.Writer, s *planSummary) {
 		fmt.Fprintf(w, "  audio:    %.1f s in all, %.2f s per file\n", s.AudioSeconds, s.FileSeconds)
 	}
 	atMost := ""
-	if s.UpperBounds {
+	if s.UpperBounds || s.FileFormat == "flac" {
 		atMost = "at most "
 	}
 	fmt.Fprintf(w, "  bytes:    %s%d (%.1f MiB) into %s\n", atMost, s.Bytes, float64(s.Bytes)/(1<<20), s.OutputDir)

@@ -62,7 +62,7 @@ func run(args []string, stdout, stderr io.Writer) int {
 // commandRuns are the commands by name, each given its arguments.
 var commandRuns = map[string]func(args []string, stdout, stderr io.Writer) int{
 	"render": render, "check": check, "verify": verify, "plot": plotNote,
-	"init": initPatch, "merge": merge, "schema": schema,
+	"init": initPatch, "merge": merge, "schema": schema, "page": writePage, "serve": serve,
 }
 
 func schema(args []string, stdout, stderr io.Writer) int {
@@ -227,6 +227,7 @@ func render(args []string, stdout, stderr io.Writer) int {
 	force := fs.Bool("force", false, "render every note, even those the output folder already holds")
 	shardFlag := fs.String("shard", "", "render one slice of the set: `K/N` (shard K of N, from 1), or auto from the environment")
 	noWait := fs.Bool("no-wait", false, "fail at once (status 1) while another process writes DIR, instead of waiting for it")
+	withPage := fs.Bool("page", false, "also write the review page, index.html, and a picture of each file into DIR (see sinter help page)")
 	path, code, ok := parseArgs(fs, args, stdout, stderr)
 	if !ok {
 		return code
@@ -254,6 +255,12 @@ func render(args []string, stdout, stderr io.Writer) int {
 		NoWait: *noWait, Notice: noticePrinter(stderr, "render"), Reached: reached}
 	if *allowLarge {
 		opts.Limits = sampleset.Limits{}
+	}
+	if *withPage {
+		if shard.Count > 1 {
+			return out.fail(exitUsage, errors.New("--page writes the page of a whole set; a shard has none (write it after merge with sinter page)"))
+		}
+		opts.Extras = pageExtras(*jobs)
 	}
 	if !*quiet {
 		opts.Progress = progressPrinter(stderr)

@@ -593,7 +593,9 @@ func TestCommandHelp(t *testing.T) {
 		flags      []string // some of the flags its help must list
 		json, keys bool
 	}{
-		{"render", []string{"-o DIR", "--keys LIST", "--jobs N", "--quiet", "--json", "--allow-large", "--force", "--shard K/N", "--no-wait"}, true, true},
+		{"render", []string{"-o DIR", "--keys LIST", "--jobs N", "--quiet", "--json", "--allow-large", "--force", "--shard K/N", "--no-wait", "--page"}, true, true},
+		{"page", []string{"--jobs N", "--no-wait"}, false, false},
+		{"serve", []string{"--port N"}, false, false},
 		{"check", []string{"--keys LIST", "--json"}, true, true},
 		{"merge", []string{"-o DIR", "--json", "--no-wait"}, true, false},
 		{"verify", nil, false, false},

@@ -19,7 +19,11 @@ type Manifest struct {
 	Patch     Patch  `json:"patch"`
 	Levelling string `json:"levelling"` // what the gains were set by, e.g. "peak -1 dBFS per key"
 	Mapping   string `json:"mapping"`   // the SFZ file, relative to the folder
-	Files     []File `json:"files"`
+	// Ceiling is the highest level levelling lets a file reach (0 dBFS
+	// without levelling, where a file past it clips); nil in manifests
+	// written before it was recorded.
+	Ceiling *Ceiling `json:"ceiling,omitempty"`
+	Files   []File   `json:"files"`
 	// Shard is set in the folder of one shard of a set, which holds only
 	// that shard's files and no mapping until the shards are merged.
 	Shard *Shard `json:"shard,omitempty"`
@@ -30,6 +34,13 @@ type Shard struct {
 	Index int   `json:"index"` // 1-based
 	Count int   `json:"count"`
 	Notes []int `json:"notes"` // each file's place in the whole set, as Files
+}
+
+// Ceiling is a level no file may pass: Level in Unit, dBFS (sample peak)
+// or dBTP (true peak).
+type Ceiling struct {
+	Level float64 `json:"level"`
+	Unit  string  `json:"unit"`
 }
 
 // Patch identifies the patch a set was rendered from, and the files it
@@ -62,11 +73,12 @@ type Include struct {
 	SHA256 string `json:"sha256"`
 }
 
-// File describes one WAV file of the set.
+// File describes one sample file of the set, WAV or FLAC.
 type File struct {
 	Path          string  `json:"path"` // relative to the folder, '/'-separated
 	Key           int     `json:"key"`
 	Note          string  `json:"note"`
+	F0Hz          float64 `json:"f0_hz,omitempty"` // the root key's fundamental, as tuned; 0 in older manifests
 	Velocity      int     `json:"velocity"`
 	KeyRange      [2]int  `json:"key_range"`
 	VelocityRange [2]int  `json:"velocity_range"`

@@ -22,6 +22,7 @@ import (
 
 	"sinter/patch"
 	"sinter/synth"
+	"sinter/synth/flac"
 	"sinter/synth/kernel"
 	"sinter/synth/loudness"
 	"sinter/synth/manifest"
@@ -55,6 +56,10 @@ type Options struct {
 	// Reached, if set, is called as the build passes each Stage, from the
 	// goroutine that reaches it.
 	Reached func(Stage)
+	// Extras, if set, writes more files into a whole set (not a shard)
+	// once its files, mapping and manifest are in the staging folder,
+	// before it replaces the output folder: the review page.
+	Extras Extras
 }
 
 // Stage is a point a build passes, told to Options.Reached.
@@ -184,13 +189,7 @@ func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error)
 	ctx, fail := context.WithCancelCause(ctx)
 	defer fail(nil)
 	b.commits = &commits{slots: make(chan struct{}, 2*len(b.workers)), fail: fail}
-	b.manifest = &manifest.Manifest{
-		Sinter:    opts.Version,
-		Patch:     manifestPatch(plan),
-		Levelling: plan.Normalize.String(),
-		Mapping:   plan.Name + ".sfz",
-		Files:     make([]manifest.File, len(notes)),
-	}
+	b.manifest = newManifest(plan, opts.Version, make([]manifest.File, len(notes)))
 
 	norm := plan.Normalize
 	if norm.Measure == patch.MeasureOff || norm.Scope == patch.ScopeFile {
@@ -250,6 +249,11 @@ func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error)
 	if err := writeAtomically(filepath.Join(staging, manifest.FileName), func(w io.Writer) error { return manifest.Write(w, m) }); err != nil {
 		return nil, err
 	}
+	if opts.Extras != nil && opts.Shard.Count <= 1 {
+		if err := opts.Extras(staging, writerIn(staging)); err != nil {
+			return nil, err
+		}
+	}
 	if err := ctx.Err(); err != nil {
 		return nil, err
 	}
@@ -264,6 +268,30 @@ func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error)
 // does.
 func (b *build) each(ctx context.Context, idx []int, fn func(w *worker, i int) error) error {
 	return forEach(ctx, b.workers, len(idx), func(w *worker, j int) error { return fn(w, idx[j]) })
+}
+
+// newManifest is the manifest of plan's set, rendered by sinter version,
+// holding files.
+func newManifest(plan *patch.Plan, version string, files []manifest.File) *manifest.Manifest {
+	norm := plan.Normalize
+	ceiling := &manifest.Ceiling{Level: norm.Ceiling, Unit: "dBFS"}
+	if norm.CeilingTruePeak {
+		ceiling.Unit = "dBTP"
+	}
+	if norm.Measure == patch.MeasureOff {
+		// Without levelling nothing lowers a file, and full scale is
+		// where an integer file clips.
+		ceiling.Level = 0
+		ceiling.Unit = "dBFS"
+	}
+	return &manifest.Manifest{
+		Sinter:    version,
+		Patch:     manifestPatch(plan),
+		Levelling: norm.String(),
+		Mapping:   plan.Name + ".sfz",
+		Ceiling:   ceiling,
+		Files:     files,
+	}
 }
 
 // build is the state of one Build, indexed by note. Workers write only
@@ -402,7 +430,7 @@ func (b *build) keep(i int, f manifest.File) error {
 }
 
 // finish applies note i's gain to buf, trims its tail, measures it and
-// writes its WAV file and manifest entry.
+// writes its sample file and manifest entry.
 func (b *build) finish(w *worker, i int, buf []float64) error {
 	n := &b.plan.Notes[i]
 	synth.Scale(buf, b.gains[i])
@@ -421,7 +449,7 @@ func (b *build) finish(w *worker, i int, buf []float64) error {
 	if b.looped[i] {
 		loop = &b.loops[i]
 	}
-	sum, commit, err := writeWAV(filepath.Join(b.staging, n.File), buf, n, b.plan, loop)
+	sum, commit, err := writeSamples(filepath.Join(b.staging, n.File), buf, n, b.plan, loop)
 	if err != nil {
 		return err
 	}
@@ -462,7 +490,7 @@ func roundDB(db float64) float64 {
 
 func manifestEntry(n *patch.Note, bitDepth, frames int, gain float64, lv levels, buf []float64, loop *synth.Loop) manifest.File {
 	f := manifest.File{
-		Path: n.File, Key: n.Key, Note: patch.NoteName(n.Key), Velocity: n.Velocity,
+		Path: n.File, Key: n.Key, Note: patch.NoteName(n.Key), F0Hz: n.F0, Velocity: n.Velocity,
 		KeyRange: [2]int{n.KeyLow, n.KeyHigh}, VelocityRange: [2]int{n.VelLow, n.VelHigh},
 		SampleRate: n.SampleRate, BitDepth: bitDepth, Channels: n.Channels, Frames: frames,
 		Variation: n.Variation + 1, Variations: n.Variations,
@@ -564,9 +592,10 @@ feed:
 	return context.Cause(ctx)
 }
 
-// writeWAV encodes one note and returns the file's SHA-256 in hex, and
-// commit, which syncs the file and gives it its name (see writeUnsynced).
-func writeWAV(path string, buf []float64, n *patch.Note, plan *patch.Plan, loop *synth.Loop) (sum string, commit func() error, err error) {
+// writeSamples encodes one note in the plan's format and returns the
+// file's SHA-256 in hex, and commit, which syncs the file and gives it
+// its name (see writeUnsynced).
+func writeSamples(path string, buf []float64, n *patch.Note, plan *patch.Plan, loop *synth.Loop) (sum string, commit func() error, err error) {
 	sampler := &wav.Sampler{UnityNote: uint8(n.Key)}
 	if loop != nil {
 		sampler.Loops = []wav.Loop{{Start: uint32(loop.Start), End: uint32(loop.End)}}
@@ -587,10 +616,15 @@ func writeWAV(path string, buf []float64, n *patch.Note, plan *patch.Plan, loop 
 			LowVelocity: uint8(n.VelLow), HighVelocity: uint8(n.VelHigh),
 		},
 	}
+	encode := func(w io.Writer) error { return wav.Encode(w, buf, opts) }
+	if plan.Format == patch.FormatFLAC {
+		encode = func(w io.Writer) error {
+			return flac.Encode(w, buf, flac.Options{SampleRate: opts.SampleRate, BitDepth: opts.BitDepth, Channels: opts.Channels,
+				Dither: opts.Dither, DitherSeed: opts.DitherSeed, Sampler: opts.Sampler, Instrument: opts.Instrument})
+		}
+	}
 	h := sha256.New()
-	commit, err = writeUnsynced(path, func(w io.Writer) error {
-		return wav.Encode(io.MultiWriter(w, h), buf, opts)
-	})
+	commit, err = writeUnsynced(path, func(w io.Writer) error { return encode(io.MultiWriter(w, h)) })
 	return hex.EncodeToString(h.Sum(nil)), commit, err
 }
 

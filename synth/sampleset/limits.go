@@ -7,6 +7,7 @@ import (
 
 	"sinter/patch"
 	"sinter/synth"
+	"sinter/synth/flac"
 	"sinter/synth/wav"
 )
 
@@ -14,7 +15,7 @@ import (
 type Estimate struct {
 	Files          int
 	AudioSeconds   float64 // an upper bound where tails end by level
-	Bytes          int64   // of the WAV files
+	Bytes          int64   // of the sample files; for FLAC, the most they can take
 	PartialSamples int64   // nominal: partials × frames, before skipping silence
 	// SpillBytes are the dense notes a set levelled as a whole keeps on
 	// disk between its passes, in the staging folder beside the set: the
@@ -46,8 +47,16 @@ func estimate(plan *patch.Plan, idx []int) Estimate {
 		if n.Loop.Mode != patch.LoopOff {
 			sampler.Loops = make([]wav.Loop, 1) // every looped note gets one loop
 		}
-		e.Bytes += wav.Size(n.Frames, wav.Options{SampleRate: n.SampleRate, BitDepth: plan.BitDepth, Channels: n.Channels,
-			Sampler: sampler, Instrument: &wav.Instrument{}})
+		if plan.Format == patch.FormatFLAC {
+			// What FLAC saves depends on the samples; the estimate is the
+			// most it can take, so the room check never lets a set in that
+			// cannot fit.
+			e.Bytes += flac.MaxSize(n.Frames, flac.Options{SampleRate: n.SampleRate, BitDepth: plan.BitDepth, Channels: n.Channels,
+				Sampler: sampler, Instrument: &wav.Instrument{}})
+		} else {
+			e.Bytes += wav.Size(n.Frames, wav.Options{SampleRate: n.SampleRate, BitDepth: plan.BitDepth, Channels: n.Channels,
+				Sampler: sampler, Instrument: &wav.Instrument{}})
+		}
 		work := synth.Work(n)
 		e.PartialSamples += work.Nominal
 		if !twoPasses {

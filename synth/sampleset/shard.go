@@ -147,13 +147,7 @@ func Merge(ctx context.Context, plan *patch.Plan, dir string, shards []string, o
 	for i := range notes {
 		loops[i], looped[i] = synth.PlanLoop(&notes[i])
 	}
-	m := &manifest.Manifest{
-		Sinter:    version,
-		Patch:     manifestPatch(plan),
-		Levelling: plan.Normalize.String(),
-		Mapping:   plan.Name + ".sfz",
-		Files:     files,
-	}
+	m := newManifest(plan, version, files)
 	err = errors.Join(
 		writeMapping(filepath.Join(staging, m.Mapping), plan, loops, looped),
 		writeAtomically(filepath.Join(staging, manifest.FileName), func(w io.Writer) error { return manifest.Write(w, m) }))

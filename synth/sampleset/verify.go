@@ -3,10 +3,12 @@ package sampleset
 import (
 	"bytes"
 	"cmp"
+	"crypto/md5"
 	"crypto/sha256"
 	"encoding/hex"
 	"errors"
 	"fmt"
+	"io"
 	"math"
 	"os"
 	"path"
@@ -16,7 +18,9 @@ import (
 	"strings"
 
 	goaudio "github.com/go-audio/wav"
+	mewflac "github.com/mewkiz/flac"
 
+	"sinter/synth/flac"
 	"sinter/synth/manifest"
 	"sinter/synth/mapping"
 	"sinter/synth/wav"
@@ -26,9 +30,12 @@ import (
 // manifest.json: that it exists, its SHA-256, its format and length, and its
 // smpl (root key, loop) and inst (key and velocity range) metadata; that
 // the mapping plays the set (see checkMapping; a shard has no mapping
-// until merged); and that no WAV file is there that the manifest does not
-// list. The format is read twice, by
-// sinter's own parser and by go-audio/wav's decoder, an independent reader.
+// until merged); and that no WAV or FLAC file is there that the manifest
+// does not list. A WAV file's format is read twice, by sinter's own
+// parser and by go-audio/wav's decoder, an independent reader; a FLAC
+// file's metadata by sinter's reader, and its audio decoded whole by
+// mewkiz/flac's decoder, whose samples must match the MD5 the file
+// records.
 // It returns one line per problem; none means the set is complete.
 func Verify(dir string) ([]string, error) {
 	m, err := manifest.Read(filepath.Join(dir, manifest.FileName))
@@ -52,7 +59,11 @@ func Verify(dir string) ([]string, error) {
 		if got := hex.EncodeToString(sum[:]); got != f.SHA256 {
 			report("%s: SHA-256 is %s, the manifest says %s", f.Path, got, f.SHA256)
 		}
-		for _, p := range checkFile(data, f) {
+		check := checkFile
+		if strings.EqualFold(path.Ext(f.Path), ".flac") {
+			check = checkFLAC
+		}
+		for _, p := range check(data, f) {
 			report("%s: %s", f.Path, p)
 		}
 	}
@@ -61,20 +72,46 @@ func Verify(dir string) ([]string, error) {
 		return nil, err
 	}
 	for _, e := range entries {
-		if strings.EqualFold(filepath.Ext(e.Name()), ".wav") && !listed[e.Name()] {
+		if ext := strings.ToLower(filepath.Ext(e.Name())); (ext == ".wav" || ext == ".flac") && !listed[e.Name()] {
 			report("%s: not listed in the manifest", e.Name())
 		}
 	}
 	return problems, nil
 }
 
-func checkFile(data []byte, f manifest.File) []string {
-	var problems []string
-	mismatch := func(what string, got, want any) {
-		if got != want {
-			problems = append(problems, fmt.Sprintf("%s is %v, the manifest says %v", what, got, want))
-		}
+// mismatches collects the problems of one file: a field whose value is
+// not the manifest's.
+type mismatches []string
+
+func (m *mismatches) check(what string, got, want any) {
+	if got != want {
+		*m = append(*m, fmt.Sprintf("%s is %v, the manifest says %v", what, got, want))
 	}
+}
+
+// metadata checks the smpl and inst chunks a file carries against f.
+func (m *mismatches) metadata(sampler *wav.Sampler, instrument *wav.Instrument, f manifest.File) {
+	if sampler == nil {
+		*m = append(*m, "has no smpl chunk")
+	} else {
+		m.check("smpl unity note", int(sampler.UnityNote), f.Key)
+		var want []wav.Loop
+		if f.Loop != nil {
+			want = []wav.Loop{{Start: uint32(f.Loop.Start), End: uint32(f.Loop.End)}}
+		}
+		m.check("smpl loops", fmt.Sprint(sampler.Loops), fmt.Sprint(want))
+	}
+	if instrument == nil {
+		*m = append(*m, "has no inst chunk")
+	} else {
+		m.check("inst key range", [2]int{int(instrument.LowNote), int(instrument.HighNote)}, f.KeyRange)
+		m.check("inst velocity range", [2]int{int(instrument.LowVelocity), int(instrument.HighVelocity)}, f.VelocityRange)
+	}
+}
+
+func checkFile(data []byte, f manifest.File) []string {
+	var problems mismatches
+	mismatch := problems.check
 	info, err := wav.Inspect(data)
 	if err != nil {
 		return []string{err.Error()}
@@ -83,24 +120,7 @@ func checkFile(data []byte, f manifest.File) []string {
 	mismatch("bit depth", info.BitDepth, f.BitDepth)
 	mismatch("channels", info.Channels, f.Channels)
 	mismatch("frames", info.Frames, f.Frames)
-	if info.Sampler == nil {
-		problems = append(problems, "has no smpl chunk")
-	} else {
-		mismatch("smpl unity note", int(info.Sampler.UnityNote), f.Key)
-		var got, want []wav.Loop
-		got = info.Sampler.Loops
-		if f.Loop != nil {
-			want = []wav.Loop{{Start: uint32(f.Loop.Start), End: uint32(f.Loop.End)}}
-		}
-		mismatch("smpl loops", fmt.Sprint(got), fmt.Sprint(want))
-	}
-	if info.Instrument == nil {
-		problems = append(problems, "has no inst chunk")
-	} else {
-		in := info.Instrument
-		mismatch("inst key range", [2]int{int(in.LowNote), int(in.HighNote)}, f.KeyRange)
-		mismatch("inst velocity range", [2]int{int(in.LowVelocity), int(in.HighVelocity)}, f.VelocityRange)
-	}
+	problems.metadata(info.Sampler, info.Instrument, f)
 
 	dec := goaudio.NewDecoder(bytes.NewReader(data))
 	dec.ReadInfo()
@@ -115,6 +135,46 @@ func checkFile(data []byte, f manifest.File) []string {
 		problems = append(problems, "go-audio/wav finds no smpl chunk")
 	} else {
 		mismatch("smpl unity note (go-audio/wav)", int(dec.Metadata.SamplerInfo.MIDIUnityNote), f.Key)
+	}
+	return problems
+}
+
+// checkFLAC checks a FLAC file against f: its metadata as flac.Inspect
+// reads it, and its audio decoded whole by mewkiz/flac, an independent
+// decoder, which checks every frame's CRCs: the frame count and the MD5
+// of the decoded samples (RFC 9639, section 8.2) must be what STREAMINFO
+// records.
+func checkFLAC(data []byte, f manifest.File) []string {
+	var problems mismatches
+	info, err := flac.Inspect(data)
+	if err != nil {
+		return []string{err.Error()}
+	}
+	problems.check("sample rate", info.SampleRate, f.SampleRate)
+	problems.check("bit depth", info.BitDepth, f.BitDepth)
+	problems.check("channels", info.Channels, f.Channels)
+	problems.check("frames", info.Frames, int64(f.Frames))
+	problems.metadata(info.Sampler, info.Instrument, f)
+	stream, err := mewflac.New(bytes.NewReader(data))
+	if err != nil {
+		return append(problems, fmt.Sprintf("mewkiz/flac cannot read it: %v", err))
+	}
+	sum := md5.New()
+	frames := int64(0)
+	for {
+		fr, err := stream.ParseNext()
+		if errors.Is(err, io.EOF) {
+			break
+		}
+		if err != nil {
+			return append(problems, fmt.Sprintf("mewkiz/flac cannot decode frame %d: %v", frames/flac.BlockSize, err))
+		}
+		fr.Hash(sum)
+		frames += int64(fr.Subframes[0].NSamples)
+	}
+	problems.check("frames decoded (mewkiz/flac)", frames, int64(f.Frames))
+	if got := [16]byte(sum.Sum(nil)); got != info.MD5 {
+		problems = append(problems, fmt.Sprintf("the decoded samples' MD5 is %x, STREAMINFO records %x", got, info.MD5))
 	}
 	return problems
 }
