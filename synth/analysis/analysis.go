@@ -71,8 +71,13 @@ type Result struct {
 	Law       Law
 	Partials  []Partial // lowest first
 	// ResidualDB is the energy outside the partials' spectral lines
-	// (breath, bow, noise, partials dropped), against the recording's.
+	// (breath, bow, noise, partials dropped), against the recording's,
+	// past the onset's first window.
 	ResidualDB float64
+	// TransientDB is the energy of the first moments of the note that the
+	// partials leave unexplained (a knock, a pluck's noise), against the
+	// whole of those moments; NaN where it was not measured.
+	TransientDB float64
 	// Dropped counts partials above the floor that the cap left out.
 	Dropped int
 	// Window is the first pass's window, samples.
@@ -159,7 +164,7 @@ func Analyze(x []float64, rate int, opts Options) (*Result, error) {
 	slices.SortFunc(cands, func(a, b candidate) int { return cmpFloat(a.hz, b.hz) })
 	res.Onset = onset(x, rate, sv.noiseVar)
 	parts := measure(x, rate, n0, cands, sv.noiseVar, int(math.Round(res.Onset*float64(rate))), len(x))
-	res.ResidualDB = residual(sv, cands)
+	res.ResidualDB = residual(sv, cands, int(math.Round(res.Onset*float64(rate))))
 
 	floorDB := 20*math.Log10(floorAmp) - 6
 	data := make([]*envData, len(parts))
@@ -217,7 +222,8 @@ func Analyze(x []float64, rate int, opts Options) (*Result, error) {
 		// language's envelope fit?
 		ops[i].unknown = data[i].worstFrom(&fits[i].env, fits[i].peakDB, 2*ops[i].longest) > 1
 	}
-	attacks, shift := fitAttacks(x, rate, onsetSample, noteOff, ops)
+	attacks, shift, transient := fitAttacks(x, rate, onsetSample, noteOff, ops)
+	res.TransientDB = transient
 	res.Onset = float64(onsetSample)/float64(rate) + shift
 	for i, a := range attacks {
 		if !ops[i].short {
@@ -377,14 +383,28 @@ func onset(x []float64, rate int, noiseVar float64) float64 {
 }
 
 // residual is the energy outside the kept partials' main lobes against
-// the whole, in dB, over the first pass's frames.
-func residual(sv *survey, cands []candidate) float64 {
+// the whole, in dB, over the first pass's frames from the onset on, less
+// those whose window holds the onset or the end: their windows cut the
+// partials short, which sprays them over the whole spectrum.
+func residual(sv *survey, cands []candidate, onset int) float64 {
+	inside := func(m int) bool {
+		return sv.st.start(m) >= onset && sv.st.start(m)+sv.st.win.n <= len(sv.st.x)
+	}
 	total, lines := 0.0, 0.0
-	for _, f := range sv.frames {
-		total += f.total
+	for m, f := range sv.frames {
+		if inside(m) {
+			total += f.total
+		}
 	}
 	for _, c := range cands {
-		lines += c.lobe
+		for _, p := range c.points {
+			if inside(p.frame) {
+				lines += p.lobe
+			}
+		}
+	}
+	if total == 0 {
+		return math.Inf(-1)
 	}
 	// The zero-padded transform's bins overlap, but lobe and total count
 	// them alike.

@@ -91,8 +91,9 @@ func (op *onsetPartial) level(t, a float64) float64 {
 // attackPartials at a time, loudest first, the others held meanwhile. It
 // returns each partial's attack (its fitted one where its frames
 // measured it) and the shift in seconds.
-func fitAttacks(x []float64, rate, onsetSample int, noteOff float64, ops []onsetPartial) ([]float64, float64) {
-	attacks := make([]float64, len(ops))
+func fitAttacks(x []float64, rate, onsetSample int, noteOff float64, ops []onsetPartial) (attacks []float64, shift, transientDB float64) {
+	attacks = make([]float64, len(ops))
+	transientDB = math.NaN()
 	var short, known []int
 	span := 0.005
 	for i := range ops {
@@ -118,7 +119,7 @@ func fitAttacks(x []float64, rate, onsetSample int, noteOff float64, ops []onset
 		idx = append(idx, k)
 	}
 	if len(short) == 0 || len(idx) < 8 {
-		return attacks, 0
+		return attacks, 0, transientDB
 	}
 	slices.SortFunc(short, func(a, b int) int { return cmpFloat(ops[b].peakDB, ops[a].peakDB) })
 	target := make([]float64, len(idx))
@@ -156,15 +157,16 @@ func fitAttacks(x []float64, rate, onsetSample int, noteOff float64, ops []onset
 			return dst
 		}}
 	missed := levenberg(commonFit, common, 30)
-	shift := common[0]
+	shift = common[0]
+	transientDB = 10 * math.Log10(max(missed, 1e-30)/max(cost(target), 1e-30))
 	for _, i := range short {
 		attacks[i] = common[1]
 	}
 	// Where the partials measured leave much of the waveform unexplained
 	// (a transient, a knock, partials too short to track), attacks fitted
 	// one by one would fit that instead: one attack serves them all.
-	if missed > cost(target)*math.Pow(10, attackModelDB/10) {
-		return attacks, shift
+	if transientDB > attackModelDB {
+		return attacks, shift, transientDB
 	}
 
 	// Each partial's attack, a block at a time, the others held; each
@@ -243,5 +245,5 @@ func fitAttacks(x []float64, rate, onsetSample int, noteOff float64, ops []onset
 			attacks[i] = theta[f]
 		}
 	}
-	return attacks, shift
+	return attacks, shift, transientDB
 }

@@ -45,18 +45,17 @@ func (res *Result) Draft(name string, rec Recording) patch.Draft {
 	d.Keys = keyRange(res.Key)
 	d.Comment = res.header(rec)
 	// The length follows the recording from its onset: the hold up to the
-	// note-off, the tail after it; a note never released holds to the
-	// end less its longest release.
+	// note-off, the tail after it; a note the recording never releases
+	// holds to its end, and the tail holds the longest release written.
 	total := min(patch.MaxSeconds, max(0.01, res.Length-res.Onset))
 	if res.Released {
 		d.Hold, d.Tail = min(res.NoteOff, total), max(0, total-res.NoteOff)
 	} else {
-		d.Tail = 0.1
+		d.Hold, d.Tail = total, 0.1
 		for _, p := range res.Partials {
-			d.Tail = max(d.Tail, p.Envelope.Release)
+			d.Tail = max(d.Tail, releaseOf(p.Envelope))
 		}
-		d.Tail = min(d.Tail, total/2)
-		d.Hold = total - d.Tail
+		d.Tail = min(d.Tail, patch.MaxSeconds-d.Hold)
 	}
 	highest := 0.0
 	for _, p := range res.Partials {
@@ -90,7 +89,7 @@ func (res *Result) header(rec Recording) []string {
 		fmt.Sprintf("%d Hz, %.3f s; the note starts %.3f s in%s.", res.SampleRate, res.Length, res.Onset, res.releaseText()),
 		res.PitchText() + ".",
 		"Law: " + res.LawText() + ".",
-		fmt.Sprintf("Residual (energy outside the partials: breath, bow, noise): %.1f dB.", res.ResidualDB),
+		fmt.Sprintf("Residual (energy outside the partials: breath, bow, noise): %.1f dB%s.", res.ResidualDB, res.transientText()),
 		"Levels are as recorded, in dBFS; render levels the set to -1 dBFS peak",
 		"(normalize's default). Keys and velocities are defaults to edit.",
 	}
@@ -98,6 +97,14 @@ func (res *Result) header(rec Recording) []string {
 		lines = append(lines, fmt.Sprintf("%d quieter partials above the floor were left out (--partials).", res.Dropped))
 	}
 	return lines
+}
+
+// transientText says how much of the onset the partials leave out.
+func (res *Result) transientText() string {
+	if math.IsNaN(res.TransientDB) {
+		return ""
+	}
+	return fmt.Sprintf("; of the onset, %.1f dB", res.TransientDB)
 }
 
 // releaseText says where the note was released, if it was.

@@ -348,10 +348,17 @@ func (d *envData) fitADSR() (Envelope, float64, float64) {
 
 // preferSilent reports whether a decay to silence is to be written
 // rather than one to a held level: where the held level lies below the
-// floor, where no frame shows it; or where silence fits about as well
-// (the note-off cut the decay short of it, say): the simpler envelope.
+// floor, or 10 dB under where the decay has got to when the frames end,
+// where no frame shows it; or where silence fits about as well (the
+// note-off cut the decay short of it, say): the simpler envelope.
 func (d *envData) preferSilent(held Envelope, heldPeak, heldCost float64, silent Envelope, silentPeak, silentCost float64) bool {
 	if held.Sustain == 0 {
+		return true
+	}
+	// A level the decay is still far above when the frames end is no
+	// measurement either.
+	end := min(d.noteOff, d.times[len(d.times)-1])
+	if 20*math.Log10(held.At(end, math.Inf(1))/held.Sustain) > 10 {
 		return true
 	}
 	return heldPeak+20*math.Log10(held.Sustain) < d.floor+3 ||

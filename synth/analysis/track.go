@@ -163,8 +163,8 @@ type candidate struct {
 	hz          float64 // amplitude-weighted mean of its tracks' frequencies
 	amp         float64 // its loudest peak
 	first, last int     // frames it spans
-	lobe        float64 // power of its peaks' lobes, summed over frames
 	weight      float64 // Σ amp², for averaging frequencies
+	points      []point // its tracks' peaks
 }
 
 // gather merges tracks at the same frequency that do not overlap in time
@@ -181,8 +181,8 @@ func gather(tracks []track, binHz float64) []candidate {
 			c.hz += w * p.hz
 			c.weight += w
 			c.amp = max(c.amp, p.amp)
-			c.lobe += p.lobe
 		}
+		c.points = t
 		c.hz /= c.weight
 		merged := false
 		for i := range cands {
@@ -194,7 +194,7 @@ func gather(tracks []track, binHz float64) []candidate {
 			o.weight += c.weight
 			o.amp = max(o.amp, c.amp)
 			o.first, o.last = min(o.first, c.first), max(o.last, c.last)
-			o.lobe += c.lobe
+			o.points = append(o.points, c.points...)
 			owner[i] = append(owner[i], [2]int{c.first, c.last})
 			merged = true
 			break
