@@ -13,7 +13,8 @@ import (
 type Comparison struct {
 	// SpectralDB is the RMS difference in dB between the two magnitude
 	// spectrograms, over the frames and bins of the band from LowHz to
-	// HighHz where the recording stands within 60 dB of its loudest bin.
+	// HighHz where the recording stands within 60 dB of its loudest bin
+	// and 10 dB over its noise (which the patch does not hold).
 	SpectralDB    float64
 	LowHz, HighHz float64
 	// EnergyDB is the recording's energy over the energy of the
@@ -69,11 +70,20 @@ func (res *Result) Compare(x, render []float64) Comparison {
 		}
 	}
 	lo, hi := a.bin(c.LowHz), a.bin(c.HighHz)
+	// White noise of variance σ² reads about 2σ·√Σw²/Σw in a bin, as
+	// the bins are scaled here.
+	w := newFrameWindow(res.Window)
+	var w2 float64
+	for _, v := range w.w {
+		w2 += v * v
+	}
+	noiseDB := res.NoiseDB/2 + 20*math.Log10(2*math.Sqrt(w2)/w.sum)
+	floor := max(loudest-60, noiseDB+10)
 	var ss float64
 	count := 0
 	for m := range a.DB {
 		for k := lo; k <= hi && k < len(a.DB[m]); k++ {
-			if a.DB[m][k] < loudest-60 {
+			if a.DB[m][k] < floor {
 				continue
 			}
 			d := max(b.DB[m][k], loudest-100) - a.DB[m][k]

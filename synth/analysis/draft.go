@@ -240,21 +240,32 @@ func agree(a, b Envelope) bool {
 	return near(a.Attack, b.Attack) && near(a.Decay, b.Decay) && near(a.Release, b.Release) && sus(a.Sustain, b.Sustain)
 }
 
-// fitsOneGroup reports whether one group with a rule for each setting
-// holds every member within the tolerances: a harmonics group needs a
-// level rule and a complete series; a ratios group lists its levels.
+// fitsOneGroup reports whether one group with a rule for each envelope
+// setting holds every member within the tolerances: as a harmonics group
+// where the members are a complete series with a level rule, the rules in
+// the harmonic number; else as a ratios group listing their levels, the
+// rules in the position in the list.
 func (res *Result) fitsOneGroup(members []int, series bool) bool {
-	x := res.lawVariable(members, series)
-	if series {
-		if _, ok := seriesOf(res.numbers(members)); !ok {
-			return false
-		}
-		if _, _, ok := res.seriesLevels(members); !ok {
-			return false
-		}
-	}
-	_, ok := res.envelopeLaws(members, x)
+	_, ok := res.envelopeLaws(members, res.ruleVariable(members, series))
 	return ok
+}
+
+// harmonicsGroup reports whether members, partials of the law's series,
+// can be written as a harmonics group: a complete series whose levels
+// follow a rule.
+func (res *Result) harmonicsGroup(members []int) bool {
+	if _, ok := seriesOf(res.numbers(members)); !ok {
+		return false
+	}
+	_, _, ok := res.seriesLevels(members)
+	return ok
+}
+
+// ruleVariable is what a group's rules are written in: n, the harmonic
+// number for a harmonics group, the position in the list for a ratios
+// group.
+func (res *Result) ruleVariable(members []int, series bool) []float64 {
+	return res.lawVariable(members, series && res.harmonicsGroup(members))
 }
 
 // numbers are the members' harmonic numbers.
@@ -417,23 +428,29 @@ func fitLine(x, t []float64, g func(float64) float64, offset bool) (a, b float64
 }
 
 // powerExpr writes a + b·n^p in the language: "0.05 + 0.2/n",
-// "1.2/sqrt(n)", "0.3*n^1.5".
+// "1.2/sqrt(n)", "0.3*n^1.5", "0.6 - 0.1*n^0.5".
 func powerExpr(a, b, p float64) string {
 	var term string
+	m := math.Abs(b)
 	switch {
 	case p == -1:
-		term = fmtNum(b, 4) + "/n"
+		term = fmtNum(m, 4) + "/n"
 	case p == -0.5:
-		term = fmtNum(b, 4) + "/sqrt(n)"
+		term = fmtNum(m, 4) + "/sqrt(n)"
 	case p == 1:
-		term = fmtNum(b, 4) + "*n"
+		term = fmtNum(m, 4) + "*n"
 	case p < 0:
-		term = fmtNum(b, 4) + "/n^" + fmtNum(-p, 3)
+		term = fmtNum(m, 4) + "/n^" + fmtNum(-p, 3)
 	default:
-		term = fmtNum(b, 4) + "*n^" + fmtNum(p, 3)
+		term = fmtNum(m, 4) + "*n^" + fmtNum(p, 3)
 	}
-	if a == 0 {
+	switch {
+	case a == 0 && b < 0:
+		return "-" + term
+	case a == 0:
 		return term
+	case b < 0:
+		return fmtNum(a, 4) + " - " + term
 	}
 	return fmtNum(a, 4) + " + " + term
 }
@@ -488,6 +505,11 @@ func (res *Result) seriesLevels(members []int) (amp string, tilt float64, ok boo
 		return "", 0, false
 	}
 	a, b, t := round(c[0], 5), round(c[1], 4), round(c[2], 4)
+	// The language's tilt is −60..60 dB per octave; a larger one is the
+	// two terms cancelling over too little stiffness to tell them apart.
+	if math.Abs(t) > 60 {
+		return "", 0, false
+	}
 	for k := range n {
 		if math.Abs(a+b*math.Log2(n[k])+t*math.Log2(stiffRatio(n[k], res.Law.B))-db[k]) > levelLawDB {
 			return "", 0, false
@@ -568,13 +590,10 @@ func (res *Result) draftGroup(g group, keyHz float64) patch.DraftGroup {
 		parts[k] = &res.Partials[i]
 	}
 	law := res.Law
-	x := res.lawVariable(g.members, g.series)
-	series, isSeries := seriesOf(res.numbers(g.members))
-	amp, tilt, ampOK := "", 0.0, false
-	if g.series {
-		amp, tilt, ampOK = res.seriesLevels(g.members)
-	}
-	if g.series && isSeries && ampOK {
+	x := res.ruleVariable(g.members, g.series)
+	if g.series && res.harmonicsGroup(g.members) {
+		series, _ := seriesOf(res.numbers(g.members))
+		amp, tilt, _ := res.seriesLevels(g.members)
 		out.Harmonics = &series
 		out.Amplitude, out.Tilt = amp, tilt
 		if law.Kind == Stiff {
@@ -583,7 +602,6 @@ func (res *Result) draftGroup(g group, keyHz float64) patch.DraftGroup {
 		out.Detune = cents(law.F0, keyHz)
 	} else {
 		out.Detune = cents(res.Reference, keyHz)
-		x = res.lawVariable(g.members, false)
 		for _, p := range parts {
 			out.Ratios = append(out.Ratios, p.Ratio)
 			out.Amplitudes = append(out.Amplitudes, dbText(p.Level))
