@@ -390,6 +390,10 @@ func residual(sv *survey, cands []candidate, onset int) float64 {
 	inside := func(m int) bool {
 		return sv.st.start(m) >= onset && sv.st.start(m)+sv.st.win.n <= len(sv.st.x)
 	}
+	if len(sv.st.x)-onset < sv.st.win.n {
+		// A recording shorter than a window after its onset: every frame.
+		inside = func(int) bool { return true }
+	}
 	total, lines := 0.0, 0.0
 	for m, f := range sv.frames {
 		if inside(m) {
@@ -404,7 +408,7 @@ func residual(sv *survey, cands []candidate, onset int) float64 {
 		}
 	}
 	if total == 0 {
-		return math.Inf(-1)
+		return -300 // no energy at all, as far as −300 dB goes
 	}
 	// The zero-padded transform's bins overlap, but lobe and total count
 	// them alike.

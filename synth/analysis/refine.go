@@ -162,6 +162,10 @@ func (p *measured) frequency(st *stft, rate int, phases []float64, onset, end in
 	omega += slope
 	p.hz = omega * float64(rate) / (2 * math.Pi)
 	p.errHz = se * float64(rate) / (2 * math.Pi)
+	if math.IsInf(se, 0) || math.IsNaN(se) {
+		// Too few frames to spread: good to the bin at least.
+		p.errHz = float64(rate) / float64(st.win.n)
+	}
 	p.phase = intercept
 }
 
