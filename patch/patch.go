@@ -44,6 +44,12 @@ type Patch struct {
 	// Body is a spectral envelope fixed in hertz that every partial passes
 	// through, interpolated in log frequency; nil for none.
 	Body []BodyPoint
+	// Tuning, when scale files tune the keyboard, gives every key's
+	// frequency; nil for 12-TET from A4.
+	Tuning *Tuning
+	// LayerCrossfade is how many velocities neighbouring layers overlap
+	// by, cross-fading at constant power; 0 for none.
+	LayerCrossfade int
 	// Includes are the files the partials list pulled groups from, in the
 	// order they were read.
 	Includes  []Include
@@ -213,7 +219,7 @@ func localPath(dir string) bool {
 }
 
 var topKeys = []string{"name", "sample_rate", "bit_depth", "channels", "tuning", "keys", "velocities",
-	"hold", "tail", "band_limit", "band_fade", "normalize", "loop", "round_robin", "seed", "dither",
+	"layer_crossfade", "hold", "tail", "band_limit", "band_fade", "normalize", "loop", "round_robin", "seed", "dither",
 	"envelope", "partials", "body", "output"}
 
 // Load reads, parses and validates the patch at path. The error, if any, is
@@ -284,6 +290,7 @@ func (d *decoder) patch(root *yaml.Node, p *Patch) {
 	p.Normalize = defaultNormalize()
 	p.RoundRobin, p.Dither = 1, true
 	var keysNode, partialsNode, envelopeNode, tailNode, holdNode *yaml.Node
+	var scaleNode, keymapNode, a4Node, crossfadeNode *yaml.Node
 	outputDir := ""
 	d.fields(root, "", topKeys, func(key string, v *yaml.Node, path string) {
 		switch key {
@@ -303,13 +310,24 @@ func (d *decoder) patch(root *yaml.Node, p *Patch) {
 		case "channels":
 			p.Channels, _ = d.integer(v, path, channelsRule)
 		case "tuning":
-			d.fields(v, path, []string{"a4"}, func(_ string, v *yaml.Node, path string) {
-				p.A4, _ = d.ranged(v, path, a4Rule)
+			d.fields(v, path, []string{"a4", "scale", "keymap"}, func(key string, v *yaml.Node, path string) {
+				switch key {
+				case "a4":
+					a4Node = v
+					p.A4, _ = d.ranged(v, path, a4Rule)
+				case "scale":
+					scaleNode = v
+				case "keymap":
+					keymapNode = v
+				}
 			})
 		case "keys":
 			keysNode = v
 		case "velocities":
 			p.Velocities = d.velocities(v, path)
+		case "layer_crossfade":
+			crossfadeNode = d.resolve(v)
+			p.LayerCrossfade, _ = d.integer(v, path, layerCrossfadeRule)
 		case "hold":
 			holdNode = d.resolve(v)
 			p.Hold, _ = d.ranged(v, path, holdRule)
@@ -370,11 +388,16 @@ func (d *decoder) patch(root *yaml.Node, p *Patch) {
 	if p.Name == "" && !hasKey(root, "name") {
 		d.errorf(root, "name", "the patch needs a name (it becomes part of every file name)")
 	}
+	keyAt := map[int]place{}
 	if keysNode == nil {
 		p.Keys = []int{60}
+		keyAt[60] = place{root, "keys"}
 	} else {
-		p.Keys = d.keys(keysNode, "keys")
+		p.Keys = d.keys(keysNode, "keys", keyAt)
 	}
+	d.tuningFiles(p, scaleNode, keymapNode, a4Node)
+	d.checkRoots(p, keyAt)
+	d.checkCrossfade(p, crossfadeNode)
 	defaults := defaultEnvelope()
 	if envelopeNode != nil {
 		defaults = d.envelope(envelopeNode, "envelope", defaults)
@@ -406,9 +429,15 @@ func hasKey(n *yaml.Node, key string) bool {
 	return false
 }
 
+// place is where a value stands in the patch: its node and its path.
+type place struct {
+	node *yaml.Node
+	path string
+}
+
 // keys reads a key list ([C2, "F#3", 64]), a single key, or a range
-// {from, to, step}.
-func (d *decoder) keys(n *yaml.Node, path string) []int {
+// {from, to, step}; at gets where each key was asked for.
+func (d *decoder) keys(n *yaml.Node, path string, at map[int]place) []int {
 	n = d.resolve(n)
 	var keys []int
 	if n.Kind == yaml.MappingNode {
@@ -437,6 +466,7 @@ func (d *decoder) keys(n *yaml.Node, path string) []int {
 		}
 		for k := from; k <= to; k += step {
 			keys = append(keys, k)
+			at[k] = place{n, path}
 		}
 		return keys
 	}
@@ -444,7 +474,6 @@ func (d *decoder) keys(n *yaml.Node, path string) []int {
 	if len(items) < keysRule.MinItems {
 		d.errorf(n, path, "the key list is empty")
 	}
-	at := map[int]*yaml.Node{}
 	for i, item := range items {
 		sub := fmt.Sprintf("%s[%d]", path, i)
 		k, ok := d.note(item, sub)
@@ -452,10 +481,10 @@ func (d *decoder) keys(n *yaml.Node, path string) []int {
 			continue
 		}
 		if first, dup := at[k]; dup {
-			d.errorf(d.resolve(item), sub, "key %s is listed twice (first at line %d)", NoteName(k), first.Line)
+			d.errorf(d.resolve(item), sub, "key %s is listed twice (first at line %d)", NoteName(k), first.node.Line)
 			continue
 		}
-		at[k] = d.resolve(item)
+		at[k] = place{d.resolve(item), sub}
 		keys = append(keys, k)
 	}
 	slices.Sort(keys)

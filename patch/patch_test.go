@@ -67,6 +67,22 @@ var badPatches = []struct {
 	errs         int // how many errors in all; 0 means 1
 }{
 	{
+		name: "crossfade wider than the narrowest layer",
+		src:  "name: x\nvelocities: [40, 60, 127]\nlayer_crossfade:   30\npartials: [{ratio: 1}]\n",
+		line: 3, column: 20, path: "layer_crossfade",
+		msg: "a crossfade over 30 velocities is wider than the narrowest layer, velocity 60's 41–60 (20 velocities); at most 20",
+	},
+	{
+		name: "crossfade beyond any two layers",
+		src:  "name: x\nvelocities: [40, 60, 127]\nlayer_crossfade: 64\npartials: [{ratio: 1}]\n",
+		line: 3, column: 18, path: "layer_crossfade", msg: "64 is out of range: expected 0..63",
+	},
+	{
+		name: "crossfade not a whole number",
+		src:  "name: x\nlayer_crossfade: 8.5\npartials: [{ratio: 1}]\n",
+		line: 2, column: 18, path: "layer_crossfade", msg: "expected a whole number",
+	},
+	{
 		name: "misspelt top-level key",
 		src: `name: harbor-glass
 sampel_rate: 48000

@@ -4,7 +4,10 @@ import (
 	"encoding/hex"
 	"fmt"
 	"math"
+	"runtime"
 	"slices"
+	"sync"
+	"sync/atomic"
 )
 
 // Plan is everything needed to render a sample set: one Note per output
@@ -22,6 +25,8 @@ type Plan struct {
 	OutputDir   string
 	Includes    []Include // files the patch pulled partial groups from
 	Notes       []Note
+	// Tuning is the scale that tunes the keyboard; nil for 12-TET.
+	Tuning *Tuning
 }
 
 // Note is one output file: a root key played at one velocity.
@@ -36,6 +41,10 @@ type Note struct {
 	KeyHigh    int    // highest MIDI key this file serves
 	VelLow     int    // lowest velocity this file serves
 	VelHigh    int    // highest velocity this file serves
+	// VelocityFade is where the layer cross-fades with its neighbours;
+	// nil without a crossfade (left out of the render key's encoding, so
+	// notes without one key as they always have).
+	VelocityFade *VelocityFade `json:",omitempty"`
 
 	F0         float64 // fundamental in Hz
 	SampleRate int
@@ -166,43 +175,75 @@ func (p *Patch) Expand(opts ExpandOptions) (*Plan, error) {
 		Name: p.Name, PatchFile: p.File, PatchSHA256: hex.EncodeToString(p.SHA256[:]),
 		SampleRate: p.SampleRate, BitDepth: p.BitDepth, Channels: p.Channels,
 		Normalize: p.Normalize, Dither: p.Dither, OutputDir: p.OutputDir, Includes: p.Includes,
+		Tuning: p.Tuning,
 	}
-	x := expander{patch: p, reported: map[string]bool{}}
 	rate := float64(p.SampleRate)
 	frames := max(1, int(math.Round((p.Hold+p.Tail)*rate)))
 	noteOff := int(math.Round(p.Hold * rate))
 	for ki, key := range keys {
 		keyLow, keyHigh := splitRange(keys, ki)
 		for vi, vel := range p.Velocities {
-			velLow, velHigh := splitLayers(p.Velocities, vi)
+			velLow, velHigh, fade := layerRange(p.Velocities, vi, p.LayerCrossfade)
 			for variation := range p.RoundRobin {
-				n := Note{
+				plan.Notes = append(plan.Notes, Note{
 					File: fileName(p.Name, key, vel, variation, p.RoundRobin),
 					Key:  key, Velocity: vel, Variation: variation, Variations: p.RoundRobin,
 					Seed:   deriveSeed(p.Seed, uint64(key), uint64(vel), uint64(variation)),
-					KeyLow: keyLow, KeyHigh: keyHigh, VelLow: velLow, VelHigh: velHigh,
-					F0: KeyFrequency(key, p.A4), SampleRate: p.SampleRate, Channels: p.Channels,
+					KeyLow: keyLow, KeyHigh: keyHigh, VelLow: velLow, VelHigh: velHigh, VelocityFade: fade,
+					F0: p.keyHz(key), SampleRate: p.SampleRate, Channels: p.Channels,
 					Frames: frames, NoteOff: noteOff,
-				}
-				x.partials(&n)
-				if p.RoundRobin > 1 {
-					x.randomizePhases(&n)
-				}
-				if p.TailUntil > 0 {
-					// The release curves land exactly on zero, so nothing is
-					// heard after the longest one ends.
-					n.TailUntil = p.TailUntil
-					n.Frames = min(frames, noteOff+int(math.Ceil(longestRelease(n.Partials)*rate))+1)
-				}
-				x.loop(&n)
-				plan.Notes = append(plan.Notes, n)
+				})
 			}
 		}
 	}
-	if len(x.errs) > 0 {
-		return nil, x.errs
+	// Each note's partials are its own work, so the notes are shared out
+	// among the processor's cores; each keeps its own errors, and they are
+	// listed in note order, each place once, as one expander would.
+	errs := make([]ErrorList, len(plan.Notes))
+	next := atomic.Int64{}
+	var wg sync.WaitGroup
+	for range min(runtime.GOMAXPROCS(0), len(plan.Notes)) {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for i := int(next.Add(1) - 1); i < len(plan.Notes); i = int(next.Add(1) - 1) {
+				x := expander{patch: p, reported: map[string]bool{}}
+				x.note(&plan.Notes[i], frames, noteOff, rate)
+				errs[i] = x.errs
+			}
+		}()
+	}
+	wg.Wait()
+	var list ErrorList
+	reported := map[string]bool{}
+	for _, noteErrs := range errs {
+		for _, e := range noteErrs {
+			if !reported[e.Path] {
+				reported[e.Path] = true
+				list = append(list, e)
+			}
+		}
+	}
+	if len(list) > 0 {
+		return nil, list
 	}
 	return plan, nil
+}
+
+// note resolves one note's partials, tail and loop.
+func (x *expander) note(n *Note, frames, noteOff int, rate float64) {
+	p := x.patch
+	x.partials(n)
+	if p.RoundRobin > 1 {
+		x.randomizePhases(n)
+	}
+	if p.TailUntil > 0 {
+		// The release curves land exactly on zero, so nothing is
+		// heard after the longest one ends.
+		n.TailUntil = p.TailUntil
+		n.Frames = min(frames, noteOff+int(math.Ceil(longestRelease(n.Partials)*rate))+1)
+	}
+	x.loop(n)
 }
 
 // fileName builds NAME_KKK_NOTE_vVVV.wav, with _rrK (1-based) when the
@@ -246,19 +287,6 @@ func splitRange(roots []int, i int) (low, high int) {
 	}
 	if i+1 < len(roots) {
 		high = roots[i] + (roots[i+1]-roots[i]-1)/2
-	}
-	return low, high
-}
-
-// splitLayers gives velocity layer i the velocities above the layer below
-// it up to its own; the top layer reaches 127.
-func splitLayers(vels []int, i int) (low, high int) {
-	low, high = 1, vels[i]
-	if i > 0 {
-		low = vels[i-1] + 1
-	}
-	if i == len(vels)-1 {
-		high = 127
 	}
 	return low, high
 }

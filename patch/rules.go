@@ -129,6 +129,11 @@ var (
 	bodyRule     = newRule(Rule{At: "body", Kind: ValueList, MinItems: 1, MaxItems: maxListLen})
 	bodyHzRule   = newRule(Rule{At: "body[][0]", Kind: ValueNumber, Min: 1, Max: 1e6, Unit: " Hz"})
 	bodyDBRule   = newRule(Rule{At: "body[][1]", Kind: ValueNumber, Min: -200, Max: 60, Unit: " dB"})
+
+	// Two layers share the 127 velocities, so the narrower holds at most
+	// 63: no crossfade can be wider (check also holds it to the patch's
+	// narrowest layer).
+	layerCrossfadeRule = newRule(Rule{At: "layer_crossfade", Kind: ValueInteger, Min: 0, Max: 63})
 )
 
 // A group's keys.

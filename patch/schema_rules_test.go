@@ -62,7 +62,9 @@ var rangeCases = map[string]rangeCase{
 	"keys.step":    {places: []place{top("keys: {from: 0, to: 127, step: %s}")}},
 	"velocities":   {places: []place{listOf("velocities: %s", func(i int) string { return strconv.Itoa(i + 1) })}},
 	"velocities[]": {places: []place{top("velocities: [%s]"), top("velocities: %s")}},
-	"hold":         {places: []place{top("hold: %s\ntail: auto")}},
+	// Two layers of 63 and 64 velocities leave room for the widest.
+	"layer_crossfade": {places: []place{top("layer_crossfade: %s"), top("velocities: [63, 127]\nlayer_crossfade: %s")}},
+	"hold":            {places: []place{top("hold: %s\ntail: auto")}},
 	// A file needs some length, so the shortest tail needs a hold and the
 	// longest none.
 	"tail":                {places: []place{top("tail: %s")}, high: []place{top("hold: 0\ntail: %s")}},

@@ -24,6 +24,16 @@ type lanes struct {
 	jobs   []kernel.ResonatorJob // room for every partial; a block uses the first few
 	chirps []kernel.ChirpJob     // the same for moving partials
 	rest   []int                 // live partials the block leaves to the scalar path
+	// corners are still partials whose spans with an envelope corner
+	// inside are left to the scalar path, the rest of the block to the
+	// kernel.
+	corners []cornerSpans
+}
+
+// cornerSpans is a partial whose spans in mask (bit m for span m) have a
+// corner of its envelope inside.
+type cornerSpans struct {
+	osc, mask int
 }
 
 // prepare builds the tables for a note's oscillators and the step of
@@ -60,8 +70,9 @@ func (l *lanes) prepare(osc []oscillator) {
 // block takes.
 func (r *Renderer) renderBlock(out []float64, b0, b1 int) int {
 	l := &r.lanes
-	l.rest = l.rest[:0]
+	l.rest, l.corners = l.rest[:0], l.corners[:0]
 	jobs, chirps := l.jobs[:0], l.chirps[:0]
+	full := b1-b0 == BlockFrames
 	live := 0
 	for i := range r.osc {
 		o := &r.osc[i]
@@ -69,10 +80,11 @@ func (r *Renderer) renderBlock(out []float64, b0, b1 int) int {
 			continue
 		}
 		live++
-		if b1-b0 != BlockFrames || o.nextCorner(b0) < b1 {
-			// A corner of the envelope inside the block needs a span that
-			// ends off the control grid, and so does a note's last, short
-			// block.
+		corner := o.nextCorner(b0) < b1
+		if !full || (corner && o.motion != nil) {
+			// A note's last, short block, and a moving partial's block with
+			// a corner of its envelope inside, take the scalar path whole:
+			// a corner needs a span that ends off the control grid.
 			l.rest = append(l.rest, i)
 			continue
 		}
@@ -86,7 +98,11 @@ func (r *Renderer) renderBlock(out []float64, b0, b1 int) int {
 		job := &jobs[len(jobs)-1]
 		job.Table = i
 		job.Sin, job.Cos = o.phaseAt(b0)
-		o.blockLevels(&job.Levels, b0)
+		if corner {
+			l.corners = append(l.corners, cornerSpans{osc: i, mask: o.cornerLevels(&job.From, &job.To, b0)})
+			continue
+		}
+		o.blockLevels(&job.From, &job.To, b0)
 	}
 	if len(jobs)+len(chirps) > 0 {
 		block := (*[BlockFrames]float64)(out[b0:b1])
@@ -94,6 +110,14 @@ func (r *Renderer) renderBlock(out []float64, b0, b1 int) int {
 		kernel.AddChirps(block, chirps)
 	}
 	r.scalarBlock(out, l.rest, b0, b1)
+	for _, c := range l.corners {
+		for m := range kernel.SpansPerBlock {
+			if c.mask&(1<<m) != 0 {
+				from := b0 + m*ControlFrames
+				r.single(out, &r.osc[c.osc], from, from+ControlFrames)
+			}
+		}
+	}
 	return live
 }
 
@@ -109,17 +133,18 @@ func (o *oscillator) chirpParams(job *kernel.ChirpJob, b0 int) {
 		// next cell starts again from the exact phase.
 		job.Curve[m] = uint64(int64(o.nextInc-o.cellInc) >> 7)
 	}
-	o.blockLevels(&job.Levels, b0)
+	o.blockLevels(&job.From, &job.To, b0)
 }
 
-// blockLevels sets lv to the partial's amplitude × envelope at the
-// block's control points, 0, ControlFrames, …, BlockFrames from b0; the
-// block lies in one envelope segment. On a curved segment the curve's
-// exponential steps from one control point to the next by one
-// multiplication, carried on from the block before and taken afresh with
-// math.Exp at every exactEvery-th block, so no level strays more than a
-// few dozen units in the last place from the curve.
-func (o *oscillator) blockLevels(lv *[kernel.SpansPerBlock + 1]float64, b0 int) {
+// blockLevels sets from and to to the partial's amplitude × envelope at
+// the start and end of each span of the block at b0, which lies in one
+// envelope segment. On a curved segment the curve's exponential steps
+// from one control point to the next by one multiplication, carried on
+// from the block before and taken afresh with math.Exp at every
+// exactEvery-th block, so no level strays more than a few dozen units in
+// the last place from the curve.
+func (o *oscillator) blockLevels(from, to *[kernel.SpansPerBlock]float64, b0 int) {
+	var lv [kernel.SpansPerBlock + 1]float64
 	e := &o.env
 	seg := o.segmentAt(b0)
 	lv[0] = o.amp * o.levelAt(seg, b0)
@@ -130,24 +155,22 @@ func (o *oscillator) blockLevels(lv *[kernel.SpansPerBlock + 1]float64, b0 int) 
 		exp = 0
 	}
 	o.endPos, o.endSeg, o.endExp = end, seg, 0
-	if seg >= e.done() {
-		*lv = [kernel.SpansPerBlock + 1]float64{}
-		o.endLevel = 0
-		return
-	}
-	s := &e.segs[seg]
 	switch {
-	case s.from == s.to || math.IsInf(s.end, 1): // flat
+	case seg >= e.done():
+		o.endLevel = 0
+	case e.segs[seg].from == e.segs[seg].to || math.IsInf(e.segs[seg].end, 1): // flat
 		for m := 1; m <= kernel.SpansPerBlock; m++ {
-			lv[m] = o.amp * s.from
+			lv[m] = o.amp * e.segs[seg].from
 		}
-		o.endLevel = s.from
-	case !s.curved:
+		o.endLevel = e.segs[seg].from
+	case !e.segs[seg].curved:
+		s := &e.segs[seg]
 		for m := 1; m <= kernel.SpansPerBlock; m++ {
 			o.endLevel = s.at(float64(b0 + m*ControlFrames))
 			lv[m] = o.amp * o.endLevel
 		}
 	default:
+		s := &e.segs[seg]
 		if exp == 0 {
 			exp = math.Exp(-curveDepth * (float64(b0) - s.start) / (s.end - s.start))
 		}
@@ -157,4 +180,29 @@ func (o *oscillator) blockLevels(lv *[kernel.SpansPerBlock + 1]float64, b0 int) 
 		}
 		o.endLevel, o.endExp = s.fromExp(exp), exp
 	}
+	copy(from[:], lv[:kernel.SpansPerBlock])
+	copy(to[:], lv[1:])
+}
+
+// cornerLevels sets from and to for a block at b0 that has a corner of
+// the partial's envelope inside: each span without one gets its levels
+// from its own segment, exactly; each span with one gets zeros, which
+// leaves it to the scalar path, and a bit in the mask returned.
+func (o *oscillator) cornerLevels(from, to *[kernel.SpansPerBlock]float64, b0 int) (mask int) {
+	for m := range kernel.SpansPerBlock {
+		start, end := b0+m*ControlFrames, b0+(m+1)*ControlFrames
+		// Not nextCorner, whose cache must stay at the block's first
+		// corner for the scalar path to come.
+		if o.env.nextBreak(float64(start)) < end {
+			from[m], to[m] = 0, 0
+			mask |= 1 << m
+			continue
+		}
+		seg := o.segmentAt(start)
+		from[m] = o.amp * o.levelAt(seg, start)
+		level := o.env.levelIn(seg, float64(end))
+		to[m] = o.amp * level
+		o.endPos, o.endSeg, o.endLevel, o.endExp = end, seg, level, 0
+	}
+	return mask
 }

@@ -62,6 +62,8 @@ type oscillator struct {
 	// the zero value holds none: audible and the block's set-up ask for
 	// the same block start in turn.
 	segKey, seg int
+	// Blocks starting in [loudFrom, loudTo) are known to be audible.
+	loudFrom, loudTo int
 	// A partial with motion has its increment taken at knots every
 	// ControlFrames samples from the note's start: cellPhase is the exact
 	// phase at the knot cellStart, cellInc the increment there and nextInc
@@ -529,13 +531,39 @@ const SilenceLevel = 1e-7
 // starting at b0: its level at b0 or, where a segment rises within the
 // block, at the end of that rise.
 func (o *oscillator) audible(b0 int) bool {
+	if b0 >= o.loudFrom && b0 < o.loudTo {
+		return true
+	}
 	a := math.Abs(o.amp)
 	seg := o.segmentAt(b0)
 	level := o.levelAt(seg, b0)
 	if a*level >= SilenceLevel {
+		o.loudSpan(seg, a)
 		return true
 	}
 	return a*o.env.peakIn(float64(b0), float64(b0+BlockFrames), level) >= SilenceLevel
+}
+
+// loudSpan notes, for a segment the partial is audible in, the block
+// starts at which it is sure to stay audible: the whole segment, if its
+// level at both ends clears SilenceLevel with room to spare (a segment
+// is straight or a monotonic curve, so it clears it everywhere between),
+// so that audible need not evaluate the envelope block after block.
+func (o *oscillator) loudSpan(seg int, a float64) {
+	e := &o.env
+	if seg >= e.done() {
+		return
+	}
+	s := &e.segs[seg]
+	start, end := s.start, min(s.end, e.noteOff)
+	if seg == e.release() {
+		start, end = e.noteOff, e.releaseEnd
+	}
+	const margin = 1 + 1e-9 // so that rounding cannot put the two answers apart
+	if math.IsInf(end, 1) || a*min(s.at(start), s.at(end)) < SilenceLevel*margin {
+		return
+	}
+	o.loudFrom, o.loudTo = int(math.Ceil(start)), int(math.Ceil(end))
 }
 
 // segmentAt returns the number of the envelope segment pos falls in.
@@ -693,18 +721,9 @@ func kernel1(out []float64, o *oscillator) {
 	o.y, o.step = y, s
 }
 
-// Peak returns the largest absolute sample value in buf.
-func Peak(buf []float64) float64 {
-	peak := 0.0
-	for _, v := range buf {
-		// A comparison, not the max builtin, whose handling of NaN and
-		// signed zeros costs several times as much.
-		if a := math.Abs(v); a > peak {
-			peak = a
-		}
-	}
-	return peak
-}
+// Peak returns the largest absolute sample value in buf; NaN values are
+// passed over.
+func Peak(buf []float64) float64 { return kernel.Peak(buf, 0) }
 
 // Scale multiplies every sample of buf by gain.
 func Scale(buf []float64, gain float64) {

@@ -63,33 +63,24 @@ func workOf(partials []patch.Partial, n *patch.Note, first int) Stats {
 // practice: a sine is 3.01 dB); 0 for silence.
 func CrestFactor(buf []float64) float64 {
 	// Four running sums, so that each addition need not wait for the
-	// last, and a comparison for the peak, as in Peak.
+	// last.
 	var s [4]float64
-	peak, n := 0.0, len(buf)
-	for len(buf) >= 4 {
-		q := buf[:4:4]
+	rest := buf
+	for ; len(rest) >= 4; rest = rest[4:] {
+		q := rest[:4:4]
 		s[0] += q[0] * q[0]
 		s[1] += q[1] * q[1]
 		s[2] += q[2] * q[2]
 		s[3] += q[3] * q[3]
-		for _, v := range q {
-			if a := math.Abs(v); a > peak {
-				peak = a
-			}
-		}
-		buf = buf[4:]
 	}
-	for _, v := range buf {
+	for _, v := range rest {
 		s[0] += v * v
-		if a := math.Abs(v); a > peak {
-			peak = a
-		}
 	}
 	sum := (s[0] + s[1]) + (s[2] + s[3])
 	if sum == 0 {
 		return 0
 	}
-	return 20 * math.Log10(peak/math.Sqrt(sum/float64(n)))
+	return 20 * math.Log10(Peak(buf)/math.Sqrt(sum/float64(len(buf))))
 }
 
 // timbreSeconds is how much of a note TimbreCrestFactor renders.

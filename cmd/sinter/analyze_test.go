@@ -26,7 +26,7 @@ func writeWAV(t *testing.T, name string, channels int, samples []float64) string
 		if err := wav.Encode(&buf, samples, wav.Options{SampleRate: 44100, BitDepth: 16, Channels: channels}); err != nil {
 			t.Fatal(err)
 		}
-		return writeFile(t, name, buf.Bytes())
+		return writeFile(t, t.TempDir(), name, buf.String())
 	}
 	le := binary.LittleEndian
 	data := make([]byte, 0, 2*len(samples))
@@ -40,16 +40,7 @@ func writeWAV(t *testing.T, name string, channels int, samples []float64) string
 	b = le.AppendUint32(le.AppendUint32(b, 44100), uint32(44100*2*channels))
 	b = le.AppendUint16(le.AppendUint16(b, uint16(2*channels)), 16)
 	b = le.AppendUint32(append(b, "data"...), uint32(len(data)))
-	return writeFile(t, name, append(b, data...))
-}
-
-func writeFile(t *testing.T, name string, data []byte) string {
-	t.Helper()
-	path := filepath.Join(t.TempDir(), name)
-	if err := os.WriteFile(path, data, 0o644); err != nil {
-		t.Fatal(err)
-	}
-	return path
+	return writeFile(t, t.TempDir(), name, string(append(b, data...)))
 }
 
 // pluck is a second of a plucked tone at 220 Hz, eight harmonics falling
@@ -117,7 +108,7 @@ func TestAnalyzeWritesAPatch(t *testing.T) {
 		t.Errorf("the picture is no PNG: %v", err)
 	}
 	// Refused: a file analyze did not write, and both --key and --f0.
-	foreign := writeFile(t, "mine.yaml", []byte("name: mine\npartials: [{ratio: 1}]\n"))
+	foreign := writeFile(t, t.TempDir(), "mine.yaml", "name: mine\npartials: [{ratio: 1}]\n")
 	if code, _, stderr := runCLI("analyze", rec, "-o", foreign); code != exitUsage || !strings.Contains(stderr, "was not written by sinter analyze") {
 		t.Errorf("over a designer's patch: exit %d, %q", code, stderr)
 	}
@@ -150,10 +141,10 @@ func TestAnalyzeBadRecordings(t *testing.T) {
 	cases := []struct {
 		name, file, want string
 	}{
-		{"not a WAV", writeFile(t, "song.wav", []byte("ID3\x04\x00 an mp3 file, renamed")), `not a WAV file analyze can read: wav: byte 0: file starts with "ID3\x04"`},
-		{"truncated", writeFile(t, "cut.wav", data[:len(data)/2]), "(truncated)"},
-		{"empty", writeFile(t, "empty.wav", nil), "0 bytes are too few for a RIFF header"},
-		{"broken chunk", writeFile(t, "broken.wav", broken), `"data" chunk claims 1073741824 bytes`},
+		{"not a WAV", writeFile(t, t.TempDir(), "song.wav", "ID3\x04\x00 an mp3 file, renamed"), `not a WAV file analyze can read: wav: byte 0: file starts with "ID3\x04"`},
+		{"truncated", writeFile(t, t.TempDir(), "cut.wav", string(data[:len(data)/2])), "(truncated)"},
+		{"empty", writeFile(t, t.TempDir(), "empty.wav", ""), "0 bytes are too few for a RIFF header"},
+		{"broken chunk", writeFile(t, t.TempDir(), "broken.wav", string(broken)), `"data" chunk claims 1073741824 bytes`},
 		{"silence", writeWAV(t, "silence.wav", 1, make([]float64, 44100)), "no stable partial was found: the recording is silent"},
 		{"pure noise", writeWAV(t, "noise.wav", 1, noise), "no stable partial was found"},
 		{"clipped", writeWAV(t, "hot.wav", 1, pluck(0.5, 4)), "it is clipped"},

@@ -5,10 +5,12 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"strings"
 	"text/tabwriter"
 
 	"sinter/patch"
 	"sinter/synth"
+	"sinter/synth/mapping"
 	"sinter/synth/sampleset"
 )
 
@@ -49,6 +51,10 @@ type planSummary struct {
 	TailUntilDB  float64 `json:"tail_until_dbfs,omitempty"`
 	FileSeconds  float64 `json:"file_seconds"`
 	Bytes        int64   `json:"bytes"`
+	// SpillBytes are the dense notes a set levelled as a whole keeps
+	// beside it between its passes: render needs room for them and the
+	// set, and refuses at once without it.
+	SpillBytes int64 `json:"spill_bytes"`
 	// UpperBounds says that audio_seconds and bytes are the most a render
 	// writes: tails end by level, which only rendering finds.
 	UpperBounds bool `json:"lengths_are_upper_bounds,omitempty"`
@@ -64,6 +70,50 @@ type planSummary struct {
 	Dither      bool      `json:"dither"`
 	OverLimit   string    `json:"over_limit,omitempty"` // why render would refuse it without --allow-large
 	PerKey      []keyPlan `json:"per_key"`
+	// LayerCrossfade is how many velocities neighbouring layers share;
+	// LayerRanges what each layer serves and where it fades.
+	LayerCrossfade int         `json:"layer_crossfade"`
+	LayerRanges    []layerPlan `json:"layer_ranges"`
+	// Tuning is the scale that tunes the set; nil for 12-TET.
+	Tuning *tuningPlan `json:"tuning,omitempty"`
+}
+
+// layerPlan is one velocity layer: the velocities it serves and, where it
+// cross-fades with a neighbour, the SFZ fade ranges (silent at the first
+// velocity of a fade in, full at its second; a fade out the other way).
+type layerPlan struct {
+	Velocity int     `json:"velocity"`
+	Low      int     `json:"low"`
+	High     int     `json:"high"`
+	FadeIn   *[2]int `json:"fade_in,omitempty"`
+	FadeOut  *[2]int `json:"fade_out,omitempty"`
+}
+
+// tuningPlan is the scale that tunes the set and every key its mapping
+// plays, from the lowest root to the highest.
+type tuningPlan struct {
+	Scale        string     `json:"scale"`
+	ScaleSHA256  string     `json:"scale_sha256"`
+	Keymap       string     `json:"keymap,omitempty"`
+	KeymapSHA256 string     `json:"keymap_sha256,omitempty"`
+	Description  string     `json:"description"`
+	Pitches      int        `json:"pitches"`
+	PeriodCents  float64    `json:"period_cents"`
+	TwelveTone   bool       `json:"twelve_tone"`
+	Keys         []tunedKey `json:"keys"`
+}
+
+// tunedKey is one key the mapping plays: its frequency under the scale,
+// how far that lies from 12-TET at the patch's a4, the root whose file
+// plays it, and how far the mapping's whole cents of tune leave it from
+// the scale (0 at the roots; at most half a cent).
+type tunedKey struct {
+	Key          int     `json:"key"`
+	Note         string  `json:"note"`
+	Hz           float64 `json:"hz"`
+	Cents        float64 `json:"cents_from_12tet"`
+	Root         int     `json:"root"`
+	MappingError float64 `json:"mapping_error_cents"`
 }
 
 // work is oscillator work in partial-samples: what the renderer computes,
@@ -129,11 +179,13 @@ func summarize(plan *patch.Plan, p *patch.Patch) planSummary {
 		s.TailUntilDB = 20 * math.Log10(p.TailUntil)
 	}
 	est := sampleset.EstimatePlan(plan)
-	s.AudioSeconds, s.Bytes, s.UpperBounds = est.AudioSeconds, est.Bytes, p.TailUntil > 0
+	s.AudioSeconds, s.Bytes, s.SpillBytes, s.UpperBounds = est.AudioSeconds, est.Bytes, est.SpillBytes, p.TailUntil > 0
 	if err := sampleset.DefaultLimits.Check(est); err != nil {
 		s.OverLimit = err.Error()
 	}
 	s.Work.Counts = checkCounts
+	s.LayerCrossfade, s.LayerRanges = p.LayerCrossfade, layers(plan)
+	s.Tuning = tuned(plan, p.A4)
 	for i := range plan.Notes {
 		n := &plan.Notes[i]
 		loop, looped := synth.PlanLoop(n)
@@ -163,6 +215,64 @@ func summarize(plan *patch.Plan, p *patch.Patch) planSummary {
 	return s
 }
 
+// layers lists the velocity layers as the first key's notes have them.
+func layers(plan *patch.Plan) []layerPlan {
+	var out []layerPlan
+	for _, n := range plan.Notes {
+		if n.Key != plan.Notes[0].Key {
+			break
+		}
+		if n.Variation > 0 {
+			continue
+		}
+		l := layerPlan{Velocity: n.Velocity, Low: n.VelLow, High: n.VelHigh}
+		if f := n.VelocityFade; f != nil {
+			if f.In != [2]int{} {
+				l.FadeIn = &f.In
+			}
+			if f.Out != [2]int{} {
+				l.FadeOut = &f.Out
+			}
+		}
+		out = append(out, l)
+	}
+	return out
+}
+
+// tuned describes the plan's scale and every key its mapping plays, with
+// the root that plays it and what the mapping's whole cents miss by, as
+// the mapping writes them.
+func tuned(plan *patch.Plan, a4 float64) *tuningPlan {
+	t := plan.Tuning
+	if t == nil {
+		return nil
+	}
+	tp := &tuningPlan{Scale: t.Scale.Path, ScaleSHA256: t.Scale.SHA256, Description: t.Description, Pitches: t.Pitches,
+		PeriodCents: t.PeriodCents, TwelveTone: t.TwelveTone}
+	if t.Keymap != nil {
+		tp.Keymap, tp.KeymapSHA256 = t.Keymap.Path, t.Keymap.SHA256
+	}
+	for i, n := range plan.Notes {
+		if i > 0 && plan.Notes[i-1].Key == n.Key {
+			continue
+		}
+		for k := n.KeyLow; k <= n.KeyHigh; k++ {
+			if !t.Mapped(k) {
+				continue
+			}
+			miss := 0.0
+			if !t.TwelveTone {
+				off := t.Offset(n.Key, k)
+				transpose, tune := mapping.PitchOffset(off)
+				miss = float64(100*transpose+tune) - off
+			}
+			tp.Keys = append(tp.Keys, tunedKey{Key: k, Note: patch.NoteName(k), Hz: t.Hz[k],
+				Cents: 1200 * math.Log2(t.Hz[k]/patch.KeyFrequency(k, a4)), Root: n.Key, MappingError: miss})
+		}
+	}
+	return tp
+}
+
 func printPlan(w io.Writer, s *planSummary) {
 	channels := "mono"
 	if s.Channels == 2 {
@@ -185,6 +295,9 @@ func printPlan(w io.Writer, s *planSummary) {
 		atMost = "at most "
 	}
 	fmt.Fprintf(w, "  bytes:    %s%d (%.1f MiB) into %s\n", atMost, s.Bytes, float64(s.Bytes)/(1<<20), s.OutputDir)
+	if s.SpillBytes > 0 {
+		fmt.Fprintf(w, "            and up to %d (%.1f MiB) of dense notes kept beside it between the passes: render needs free space for both\n", s.SpillBytes, float64(s.SpillBytes)/(1<<20))
+	}
 	fmt.Fprintf(w, "  work:     to compute %s in one render of each note\n", s.Work)
 	if s.TwoPasses {
 		fmt.Fprintf(w, "            (levelled as a whole, render renders again the notes it keeps no copy of, and reports those apart)\n")
@@ -195,6 +308,7 @@ func printPlan(w io.Writer, s *planSummary) {
 		dither = "TPDF, ±1 LSB"
 	}
 	fmt.Fprintf(w, "  levelling: %s; dither %s\n", s.Levelling, dither)
+	printLayers(w, s)
 	if s.OverLimit != "" {
 		fmt.Fprintf(w, "  limits:   %s; render needs --allow-large\n", s.OverLimit)
 	}
@@ -212,6 +326,55 @@ func printPlan(w io.Writer, s *planSummary) {
 			}
 		}
 		fmt.Fprintf(tw, "%s\t%d\t%.2f\t%d\t%d\t%d\t%.0f\t%.1f\t%s\t%s\t%s\t\n", k.Note, k.Key, k.F0, k.Kept, k.Faded, k.Dropped, k.HighestHz, k.CrestDB, loopSpan, kind, cents)
+	}
+	tw.Flush()
+	printTuning(w, s.Tuning)
+}
+
+// printLayers writes the velocity layers, and their crossfades.
+func printLayers(w io.Writer, s *planSummary) {
+	parts := make([]string, len(s.LayerRanges))
+	for i, l := range s.LayerRanges {
+		var fades []string
+		if l.FadeIn != nil {
+			fades = append(fades, fmt.Sprintf("in %d-%d", l.FadeIn[0], l.FadeIn[1]))
+		}
+		if l.FadeOut != nil {
+			fades = append(fades, fmt.Sprintf("out %d-%d", l.FadeOut[0], l.FadeOut[1]))
+		}
+		parts[i] = fmt.Sprintf("v%d %d-%d", l.Velocity, l.Low, l.High)
+		if fades != nil {
+			parts[i] += " (fades " + strings.Join(fades, ", ") + ")"
+		}
+	}
+	fmt.Fprintf(w, "  layers:   %s\n", strings.Join(parts, ", "))
+	switch {
+	case s.LayerCrossfade > 0 && len(s.LayerRanges) > 1:
+		fmt.Fprintf(w, "            neighbours overlap by %d velocities and cross-fade at constant power (xf_velcurve=power)\n", s.LayerCrossfade)
+	case s.LayerCrossfade > 0:
+		fmt.Fprintf(w, "            one layer: layer_crossfade has nothing to fade into\n")
+	}
+}
+
+// printTuning writes the scale and every key the mapping plays.
+func printTuning(w io.Writer, t *tuningPlan) {
+	if t == nil {
+		return
+	}
+	fmt.Fprintf(w, "tuning: %s (%q), %d pitches, period %.4f cents", t.Scale, t.Description, t.Pitches, t.PeriodCents)
+	if t.Keymap != "" {
+		fmt.Fprintf(w, "; keymap %s", t.Keymap)
+	}
+	fmt.Fprintln(w)
+	if t.TwelveTone {
+		fmt.Fprintln(w, "  every key at its 12-TET pitch: rendered as 12-TET, one region per root as without a scale")
+	} else {
+		fmt.Fprintln(w, "  each key has its own region, offset by transpose and whole cents of tune; unmapped keys have none")
+	}
+	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
+	fmt.Fprintln(tw, "key\tmidi\tHz\tfrom 12-TET\troot\tmapping error\t")
+	for _, k := range t.Keys {
+		fmt.Fprintf(tw, "%s\t%d\t%.4f\t%+.3f c\t%d\t%+.3f c\t\n", k.Note, k.Key, k.Hz, k.Cents, k.Root, k.MappingError)
 	}
 	tw.Flush()
 }

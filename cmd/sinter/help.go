@@ -21,20 +21,20 @@ type commandDoc struct {
 // commands is every command, in the order the overview lists them.
 var commands = []commandDoc{
 	{name: "render", keys: true, json: true,
-		usage:   "sinter render PATCH.yaml [-o DIR] [--keys LIST] [--jobs N] [--quiet] [--json] [--allow-large] [--force] [--shard K/N|auto]",
-		about:   "Render every root key and velocity layer into DIR (default: the\npatch's output.dir): WAV files, an SFZ mapping and manifest.json.\nFiles the set in DIR already holds unchanged are kept, not rendered.",
+		usage:   "sinter render PATCH.yaml [-o DIR] [--keys LIST] [--jobs N] [--quiet] [--json] [--allow-large] [--force] [--shard K/N|auto] [--no-wait]",
+		about:   "Render every root key and velocity layer into DIR (default: the\npatch's output.dir): WAV files, an SFZ mapping and manifest.json.\nFiles the set in DIR already holds unchanged are kept, not rendered.\nOne render writes DIR at a time: another waits, saying who holds it,\nor with --no-wait fails at once. A render refuses at once a set that\nwould not fit in the free space, and removes what killed renders of\nDIR left beside it.",
 		example: "sinter render harbor-glass.yaml -o out/harbor-glass --keys C4-C5 --jobs 4"},
 	{name: "merge", json: true,
-		usage:   "sinter merge PATCH.yaml [-o DIR] SHARD_DIR... [--json]",
+		usage:   "sinter merge PATCH.yaml [-o DIR] SHARD_DIR... [--json] [--no-wait]",
 		about:   "Join the folders of the shards of one set (render --shard) into DIR.",
 		example: "sinter merge pad.yaml -o pad-set shard-1 shard-2 shard-3"},
 	{name: "check", keys: true, json: true,
 		usage:   "sinter check PATCH.yaml [--keys LIST] [--json]",
-		about:   "Validate the patch and print the plan without rendering: files,\nformat, bytes, the oscillator work render will do, and per key the\npartials kept by the band limit and the loop.",
+		about:   "Validate the patch and print the plan without rendering: files,\nformat, bytes, the oscillator work render will do, the velocity layers\nand their crossfades, per key the partials kept by the band limit and\nthe loop, and with a scale file each key's frequency and its offset\nfrom 12-TET.",
 		example: "sinter check harbor-glass.yaml --keys C4,E4"},
 	{name: "verify",
 		usage:   "sinter verify DIR",
-		about:   "Read a rendered set back and check every file against its manifest,\nand that the mapping plays each of them and nothing else.",
+		about:   "Read a rendered set back and check every file against its manifest,\nand that the mapping plays each of them and nothing else, with the\nvelocities, crossfades and (for a set tuned by a scale) the pitch of\nevery key the manifest records. Removes what killed renders of DIR\nleft beside it, saying how much it freed.",
 		example: "sinter verify out/harbor-glass"},
 	{name: "plot",
 		usage:   "sinter plot PATCH.yaml [--key C4] [--velocity V] [-o FILE.png] [--width W] [--height H]\n  sinter plot RECORDING.wav [--key NOTE] [-o FILE.png] [--width W] [--height H]",
@@ -65,7 +65,7 @@ const (
 without it.`
 	keysHelp = `LIST (render and check) is a comma-separated list of keys and ranges:
 C4,E4 or 60-72 or C4-C5.`
-	exitHelp = "Exit status: 0 success, 1 rendering or writing failed, 2 usage, patch or\nrecording error."
+	exitHelp = "Exit status: 0 success, 1 rendering or writing failed (no room, or\nDIR busy with --no-wait), 2 usage, patch or recording error."
 	// versionHelp is the overview's entry for --version, which is no
 	// command of the table.
 	versionHelp = `  sinter --version

@@ -20,7 +20,9 @@ name: %[1]s
 sample_rate: 48000
 bit_depth: 24
 keys: {from: C2, to: C6, step: 3}   # root keys; the sampler fills the keys between
+# tuning: {scale: my-scale.scl}    # tune the keys from a scale file instead of 12-TET
 velocities: [64, 127]              # one layer per velocity
+layer_crossfade: 16                # the layers blend over 16 velocities (0: a hard switch)
 hold: 2                            # seconds to note-off
 tail: 1                            # seconds after it
 normalize: {peak: -1 dBFS}         # one gain for the set

@@ -181,18 +181,39 @@ func loadPlan(path, keyList, outDir string) (*patch.Plan, *patch.Patch, error) {
 
 // renderSummary is what render reports with --json.
 type renderSummary struct {
-	Patch        string   `json:"patch"`
-	OutputDir    string   `json:"output_dir"`
-	Files        int      `json:"files"`
-	AudioSeconds float64  `json:"audio_seconds"`
-	Bytes        int64    `json:"bytes"` // of the WAV files
-	Levelling    string   `json:"levelling"`
-	Kernel       string   `json:"kernel"`
-	Work         work     `json:"partial_samples"`
-	Rendered     int      `json:"notes_rendered"`
-	Kept         int      `json:"files_kept"`
-	Rerendered   int      `json:"notes_rendered_twice"`
-	Warnings     []string `json:"warnings"`
+	Patch        string     `json:"patch"`
+	OutputDir    string     `json:"output_dir"`
+	Files        int        `json:"files"`
+	AudioSeconds float64    `json:"audio_seconds"`
+	Bytes        int64      `json:"bytes"` // of the WAV files
+	Levelling    string     `json:"levelling"`
+	Kernel       string     `json:"kernel"`
+	Work         work       `json:"partial_samples"`
+	Rendered     int        `json:"notes_rendered"`
+	Kept         int        `json:"files_kept"`
+	Rerendered   int        `json:"notes_rendered_twice"`
+	Warnings     []string   `json:"warnings"`
+	Leftovers    []leftover `json:"leftovers_removed"`
+}
+
+// leftover is a folder an ended render of the same output left beside it,
+// which this one removed (or put back as the output folder), as --json
+// reports it.
+type leftover struct {
+	Path     string `json:"path"`
+	Freed    int64  `json:"bytes_freed"`
+	Restored bool   `json:"restored,omitempty"`
+}
+
+// reached, when set, is told each stage a render passes; the process
+// tests set it to stop a render at a chosen point.
+var reached func(sampleset.Stage)
+
+// noticePrinter prints what a build tells besides rendering — a wait for
+// the output folder, leftovers removed — on stderr, even with --quiet,
+// as warnings are: a wait would otherwise look like a hang.
+func noticePrinter(stderr io.Writer, command string) func(string) {
+	return func(msg string) { fmt.Fprintf(stderr, "sinter %s: %s\n", command, msg) }
 }
 
 func render(args []string, stdout, stderr io.Writer) int {
@@ -205,6 +226,7 @@ func render(args []string, stdout, stderr io.Writer) int {
 	allowLarge := fs.Bool("allow-large", false, "render sets beyond the default limits")
 	force := fs.Bool("force", false, "render every note, even those the output folder already holds")
 	shardFlag := fs.String("shard", "", "render one slice of the set: `K/N` (shard K of N, from 1), or auto from the environment")
+	noWait := fs.Bool("no-wait", false, "fail at once (status 1) while another process writes DIR, instead of waiting for it")
 	path, code, ok := parseArgs(fs, args, stdout, stderr)
 	if !ok {
 		return code
@@ -228,7 +250,8 @@ func render(args []string, stdout, stderr io.Writer) int {
 	}
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
 	defer stop()
-	opts := sampleset.Options{Jobs: *jobs, Version: version, Limits: sampleset.DefaultLimits, Force: *force, Shard: shard}
+	opts := sampleset.Options{Jobs: *jobs, Version: version, Limits: sampleset.DefaultLimits, Force: *force, Shard: shard,
+		NoWait: *noWait, Notice: noticePrinter(stderr, "render"), Reached: reached}
 	if *allowLarge {
 		opts.Limits = sampleset.Limits{}
 	}
@@ -237,9 +260,12 @@ func render(args []string, stdout, stderr io.Writer) int {
 	}
 	res, err := sampleset.Build(ctx, plan, opts)
 	var limit *sampleset.LimitError
+	var busy *sampleset.BusyError
 	switch {
 	case errors.Is(err, context.Canceled):
 		err = errors.New("interrupted; the previous set, if any, is unchanged")
+	case errors.As(err, &busy):
+		err = fmt.Errorf("%w; not waiting for it (--no-wait)", err)
 	case errors.As(err, &limit):
 		return out.fail(exitUsage, fmt.Errorf("%w; check the patch, or pass --allow-large to render it anyway", err))
 	}
@@ -249,7 +275,10 @@ func render(args []string, stdout, stderr io.Writer) int {
 	summary := renderSummary{Patch: plan.PatchFile, OutputDir: res.Dir, Files: len(res.Manifest.Files),
 		Levelling: res.Manifest.Levelling, Kernel: kernel.Active().String(),
 		Work:     work{Computed: res.Stats.PartialSamples, Nominal: res.Stats.Nominal, Counts: renderCounts, Again: &res.Again.PartialSamples},
-		Rendered: res.Rendered, Kept: res.Reused, Rerendered: res.Rerendered, Warnings: res.Warnings}
+		Rendered: res.Rendered, Kept: res.Reused, Rerendered: res.Rerendered, Warnings: res.Warnings, Leftovers: []leftover{}}
+	for _, l := range res.Removed {
+		summary.Leftovers = append(summary.Leftovers, leftover{Path: l.Path, Freed: l.Bytes, Restored: l.Restored})
+	}
 	for _, f := range res.Manifest.Files {
 		summary.AudioSeconds += float64(f.Frames) / float64(f.SampleRate)
 		if info, err := os.Stat(filepath.Join(res.Dir, filepath.FromSlash(f.Path))); err == nil {
@@ -323,6 +352,9 @@ func verify(args []string, stdout, stderr io.Writer) int {
 	if !ok {
 		return code
 	}
+	// What a killed render left beside the set is no part of it, but
+	// verify is where one looks after a failed pipeline.
+	sampleset.RemoveLeftovers(dir, noticePrinter(stderr, "verify"))
 	problems, err := sampleset.Verify(dir)
 	if err != nil {
 		fmt.Fprintf(stderr, "sinter verify: %v\n", err)

@@ -9,6 +9,7 @@ import (
 	"os"
 	"path/filepath"
 	"reflect"
+	"slices"
 	"strconv"
 	"strings"
 	"testing"
@@ -76,6 +77,8 @@ func TestExitStatuses(t *testing.T) {
 		{"check seed above 2^53", []string{"check", writePatch(t, "name: x\nseed: 9007199254740993\npartials: [{ratio: 1}]\n")}, exitUsage, "",
 			"p.yaml:2:7: seed: 9007199254740993 is out of range: expected 0..9007199254740992"},
 		{"help for a command unknown", []string{"help", "bake"}, exitUsage, "", `unknown command "bake"`},
+		{"check crossfade wider than a layer", []string{"check", writePatch(t, "name: x\nvelocities: [40, 60, 127]\nlayer_crossfade: 30\npartials: [{ratio: 1}]\n")}, exitUsage, "",
+			"p.yaml:3:18: layer_crossfade: a crossfade over 30 velocities is wider than the narrowest layer"},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
@@ -490,6 +493,8 @@ func TestCheckPlansWhatRenderComputes(t *testing.T) {
 		{"harbor-bells.yaml", "G2"}, // tail by level, round robins, stereo, true peak
 		{"attic-harp.yaml", "C3"},   // tail by level, an include, one gain for the set
 		{"dust-choir.yaml", "C3"},   // moving partials, unison, crossfade loop
+		{"lantern-comb.yaml", ""},   // scale files: a region per key
+		{"felt-bars.yaml", "C3"},    // layers that cross-fade
 	}
 	inline := map[string]string{
 		"drone.yaml": "name: drone\nkeys: [A2]\nhold: 6\ntail: 1\nloop: {crossfade: 0.2}\npartials: [{ratios: [1, 2.41, 3.7], envelope: {attack: 0.3, decay: 0.2, sustain: 0.7, release: 0.8}}]\n",
@@ -501,7 +506,8 @@ func TestCheckPlansWhatRenderComputes(t *testing.T) {
 	// The patches and what they include, not any set rendered beside them.
 	sources, _ := filepath.Glob("../../examples/*.yaml")
 	parts, _ := filepath.Glob("../../examples/parts/*.yaml")
-	for _, src := range append(sources, parts...) {
+	tunings, _ := filepath.Glob("../../examples/tunings/*")
+	for _, src := range slices.Concat(sources, parts, tunings) {
 		rel, _ := filepath.Rel("../../examples", src)
 		data, err := os.ReadFile(src)
 		if err == nil {
@@ -587,9 +593,9 @@ func TestCommandHelp(t *testing.T) {
 		flags      []string // some of the flags its help must list
 		json, keys bool
 	}{
-		{"render", []string{"-o DIR", "--keys LIST", "--jobs N", "--quiet", "--json", "--allow-large", "--force", "--shard K/N"}, true, true},
+		{"render", []string{"-o DIR", "--keys LIST", "--jobs N", "--quiet", "--json", "--allow-large", "--force", "--shard K/N", "--no-wait"}, true, true},
 		{"check", []string{"--keys LIST", "--json"}, true, true},
-		{"merge", []string{"-o DIR", "--json"}, true, false},
+		{"merge", []string{"-o DIR", "--json", "--no-wait"}, true, false},
 		{"verify", nil, false, false},
 		{"plot", []string{"--key C4", "--velocity V", "-o FILE.png", "--width W", "--height H"}, false, false},
 		{"init", nil, false, false},

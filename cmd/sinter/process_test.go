@@ -7,19 +7,51 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
+	"strconv"
 	"strings"
 	"syscall"
 	"testing"
 	"time"
+
+	"sinter/synth/kernel"
+	"sinter/synth/sampleset"
 )
 
 // runAsCLI, set in the environment, makes the test binary act as the
 // sinter command, so tests can run it as a real process: to read its peak
-// memory, or to interrupt it with a signal.
+// memory, or to interrupt or kill it.
 const runAsCLI = "SINTER_TEST_RUN_AS_CLI"
+
+// Read only by the test binary acting as the command: umaskEnv sets its
+// umask (octal) first, since a umask belongs to a process; stopAtEnv
+// names a sampleset.Stage at which a render stops — the goroutine that
+// reaches it says "stopped at STAGE" on stderr and sleeps, for the test to
+// kill the process at that very point.
+const (
+	umaskEnv  = "SINTER_TEST_UMASK"
+	stopAtEnv = "SINTER_TEST_STOP_AT"
+)
 
 func TestMain(m *testing.M) {
 	if os.Getenv(runAsCLI) == "1" {
+		if mask := os.Getenv(umaskEnv); mask != "" {
+			m, err := strconv.ParseUint(mask, 8, 32)
+			if err != nil {
+				fmt.Fprintf(os.Stderr, "%s=%q: %v\n", umaskEnv, mask, err)
+				os.Exit(exitUsage)
+			}
+			syscall.Umask(int(m))
+		}
+		if stage := os.Getenv(stopAtEnv); stage != "" {
+			reached = func(s sampleset.Stage) {
+				if s.String() == stage {
+					fmt.Fprintf(os.Stderr, "stopped at %s\n", s)
+					for {
+						time.Sleep(time.Hour)
+					}
+				}
+			}
+		}
 		os.Exit(run(os.Args[1:], os.Stdout, os.Stderr))
 	}
 	os.Exit(m.Run())
@@ -156,4 +188,40 @@ func fileHashes(t *testing.T, dir string) map[string][32]byte {
 		sums[e.Name()] = sha256.Sum256(data)
 	}
 	return sums
+}
+
+// TestKernelChoice runs sinter with SINTER_KERNEL set, in a process of its
+// own because the kernel is chosen when the program starts: --version names
+// the kernel in use and why; every kernel the processor runs can be
+// forced; a name sinter does not know (an empty one too), or a kernel the
+// processor cannot run, is refused with exit 2 before anything else
+// happens.
+func TestKernelChoice(t *testing.T) {
+	run := func(env []string, args ...string) (string, int) {
+		cmd := command(args...)
+		cmd.Env = append(cmd.Env, env...)
+		out, _ := cmd.CombinedOutput()
+		return string(out), cmd.ProcessState.ExitCode()
+	}
+	force := func(name string) []string { return []string{kernel.EnvironmentVariable + "=" + name} }
+	out, code := run(nil, "--version")
+	if code != exitOK || !strings.Contains(out, "("+kernel.Active().String()+" kernel: "+kernel.Reason()+")") {
+		t.Errorf("--version: exit %d, %q; want the kernel %s and why", code, out, kernel.Active())
+	}
+	for _, isa := range kernel.Supported() {
+		out, code := run(force(isa.String()), "--version")
+		if code != exitOK || !strings.Contains(out, "("+isa.String()+" kernel: forced by SINTER_KERNEL="+isa.String()) {
+			t.Errorf("SINTER_KERNEL=%s: exit %d, %q", isa, code, out)
+		}
+	}
+	refused := []string{"neon", ""}
+	if best := kernel.Supported()[len(kernel.Supported())-1]; best < kernel.AVX512 {
+		refused = append(refused, (best + 1).String())
+	}
+	for _, name := range refused {
+		out, code := run(force(name), "check", "no-such.yaml")
+		if code != exitUsage || !strings.Contains(out, "SINTER_KERNEL") {
+			t.Errorf("SINTER_KERNEL=%q: exit %d, %q; want exit %d naming the variable", name, code, out, exitUsage)
+		}
+	}
 }

@@ -77,6 +77,7 @@ func merge(args []string, stdout, stderr io.Writer) int {
 	fs := flag.NewFlagSet("merge", flag.ContinueOnError)
 	outDir := fs.String("o", "", "folder `DIR` of the merged set (default: the patch's output.dir)")
 	asJSON := fs.Bool("json", false, "print the result, or the errors, as JSON on stdout")
+	noWait := fs.Bool("no-wait", false, "fail at once (status 1) while another process writes DIR, instead of waiting for it")
 	positional, code, ok := parsePositional(fs, args, stdout, stderr)
 	if !ok {
 		return code
@@ -92,7 +93,7 @@ func merge(args []string, stdout, stderr io.Writer) int {
 	}
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
 	defer stop()
-	if err := sampleset.Merge(ctx, plan, plan.OutputDir, positional[1:], version); err != nil {
+	if err := sampleset.Merge(ctx, plan, plan.OutputDir, positional[1:], sampleset.Options{Version: version, NoWait: *noWait, Notice: noticePrinter(stderr, "merge")}); err != nil {
 		return out.fail(exitFailure, err)
 	}
 	if out.json {

@@ -9,14 +9,14 @@ import "math"
 //	θ(n) = Phase[m] + Rate[m]·n + Curve[m]·n²  (mod 2^64), n = 0 … ControlFrames−1,
 //
 // a frequency that moves linearly across the span, and its sample is
-// gain·sin θ(n), the gain running in a straight line from Levels[m] to
-// Levels[m+1]. The phase is exact integer arithmetic, so however long a
+// gain·sin θ(n), the gain running in a straight line from From[m] to
+// To[m]. The phase is exact integer arithmetic, so however long a
 // note is and however its frequency moves, the only rounding is that of
 // the sine itself.
 type ChirpJob struct {
-	Levels [SpansPerBlock + 1]float64
-	Phase  [SpansPerBlock]uint64
-	Rate   [SpansPerBlock]uint64
+	From, To [SpansPerBlock]float64
+	Phase    [SpansPerBlock]uint64
+	Rate     [SpansPerBlock]uint64
 	// Curve is a two's-complement integer: the frequency may fall.
 	Curve [SpansPerBlock]uint64
 }
@@ -122,7 +122,7 @@ func addChirpsGo(block *[BlockFrames]float64, jobs []ChirpJob) {
 		job := &jobs[i]
 		for m := range SpansPerBlock {
 			phase, step, growth := chirpLanes(job, m)
-			lo, hi := job.Levels[m], job.Levels[m+1]
+			lo, hi := job.From[m], job.To[m]
 			var g [Lanes]float64
 			for l := range Lanes {
 				g[l] = math.FMA(lo, rampFrom[l], hi*rampTo[l])

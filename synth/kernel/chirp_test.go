@@ -49,8 +49,8 @@ func chirpCase(rng *rand.Rand, n int) []ChirpJob {
 	jobs := make([]ChirpJob, n)
 	for i := range jobs {
 		job := &jobs[i]
-		for m := range job.Levels {
-			job.Levels[m] = rng.Float64()*2 - 1
+		for m := range SpansPerBlock {
+			job.From[m], job.To[m] = rng.Float64()*2-1, rng.Float64()*2-1
 		}
 		for m := range SpansPerBlock {
 			job.Phase[m] = rng.Uint64()
@@ -111,7 +111,7 @@ func TestChirpsFollowThePhase(t *testing.T) {
 			theta.Add(theta, new(big.Int).SetUint64(job.Phase[m]))
 			theta.Mod(theta, turn)
 			u := float64(k) / ControlFrames
-			gain := job.Levels[m]*(1-u) + job.Levels[m+1]*u
+			gain := job.From[m]*(1-u) + job.To[m]*u
 			want += gain * math.Sin(turnRadians(theta.Uint64()))
 		}
 		if math.Abs(block[n]-want) > 1e-14 {

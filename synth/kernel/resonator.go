@@ -35,10 +35,11 @@ type ResonatorTable struct {
 type ResonatorJob struct {
 	// Sin and Cos are of the partial's phase at the block start.
 	Sin, Cos float64
-	// Levels holds amplitude × envelope at 0, ControlFrames, …,
-	// BlockFrames samples into the block; the gain runs in a straight
-	// line from each to the next.
-	Levels [SpansPerBlock + 1]float64
+	// From and To hold amplitude × envelope at the start and the end of
+	// each span; across span m the gain runs in a straight line from
+	// From[m] to To[m]. The ends of neighbouring spans are usually equal;
+	// a span left to other code has both at 0.
+	From, To [SpansPerBlock]float64
 	// Table is the index of the partial's constants in the tables
 	// AddResonators is given.
 	Table int
@@ -85,7 +86,7 @@ func addResonatorsGo(block *[BlockFrames]float64, jobs []ResonatorJob, tables []
 			s[l] = math.FMA(job.Sin, t.StepCos[l], job.Cos*t.StepSin[l])
 		}
 		for m := range SpansPerBlock {
-			lo, hi := job.Levels[m], job.Levels[m+1]
+			lo, hi := job.From[m], job.To[m]
 			var g [Lanes]float64
 			for l := range Lanes {
 				g[l] = math.FMA(lo, rampFrom[l], hi*rampTo[l])

@@ -43,7 +43,7 @@ group4:
 	JL   group4Done
 
 	// 4 partials, lanes 0 to 7: seed each resonator
-	MOVQ         56(CX), SI
+	MOVQ         80(CX), SI
 	IMUL3Q       $0x00000108, SI, SI
 	ADDQ         DX, SI
 	VBROADCASTSD (CX), Z0
@@ -53,62 +53,62 @@ group4:
 	VMULPD       192(SI), Z1, Z1
 	VFMADD231PD  128(SI), Z0, Z1
 	VBROADCASTSD 256(SI), Z0
-	MOVQ         120(CX), SI
+	MOVQ         168(CX), SI
 	IMUL3Q       $0x00000108, SI, SI
 	ADDQ         DX, SI
-	VBROADCASTSD 64(CX), Z3
-	VBROADCASTSD 72(CX), Z4
+	VBROADCASTSD 88(CX), Z3
+	VBROADCASTSD 96(CX), Z4
 	VMULPD       64(SI), Z4, Z5
 	VFMADD231PD  (SI), Z3, Z5
 	VMULPD       192(SI), Z4, Z4
 	VFMADD231PD  128(SI), Z3, Z4
 	VBROADCASTSD 256(SI), Z3
-	MOVQ         184(CX), SI
+	MOVQ         256(CX), SI
 	IMUL3Q       $0x00000108, SI, SI
 	ADDQ         DX, SI
-	VBROADCASTSD 128(CX), Z6
-	VBROADCASTSD 136(CX), Z7
+	VBROADCASTSD 176(CX), Z6
+	VBROADCASTSD 184(CX), Z7
 	VMULPD       64(SI), Z7, Z8
 	VFMADD231PD  (SI), Z6, Z8
 	VMULPD       192(SI), Z7, Z7
 	VFMADD231PD  128(SI), Z6, Z7
 	VBROADCASTSD 256(SI), Z6
-	MOVQ         248(CX), SI
+	MOVQ         344(CX), SI
 	IMUL3Q       $0x00000108, SI, SI
 	ADDQ         DX, SI
-	VBROADCASTSD 192(CX), Z9
-	VBROADCASTSD 200(CX), Z10
+	VBROADCASTSD 264(CX), Z9
+	VBROADCASTSD 272(CX), Z10
 	VMULPD       64(SI), Z10, Z11
 	VFMADD231PD  (SI), Z9, Z11
 	VMULPD       192(SI), Z10, Z10
 	VFMADD231PD  128(SI), Z9, Z10
 	VBROADCASTSD 256(SI), Z9
 	LEAQ         (AX), SI
-	LEAQ         16(CX), DI
+	MOVQ         CX, DI
 	MOVQ         $0x00000004, R8
 
 span4AVX5120:
 	// the gain ramp across this span: lo·(1 − j/64) + (hi·j/64), stepping (hi − lo)·8/64
-	VBROADCASTSD (DI), Z12
-	VBROADCASTSD 8(DI), Z13
+	VBROADCASTSD 16(DI), Z12
+	VBROADCASTSD 48(DI), Z13
 	VMULPD       resonatorRamp<>+64(SB), Z13, Z14
 	VFMADD231PD  resonatorRamp<>+0(SB), Z12, Z14
 	VSUBPD       Z12, Z13, Z12
 	VMULPD       resonatorRamp<>+128(SB), Z12, Z12
-	VBROADCASTSD 64(DI), Z13
-	VBROADCASTSD 72(DI), Z15
+	VBROADCASTSD 104(DI), Z13
+	VBROADCASTSD 136(DI), Z15
 	VMULPD       resonatorRamp<>+64(SB), Z15, Z16
 	VFMADD231PD  resonatorRamp<>+0(SB), Z13, Z16
 	VSUBPD       Z13, Z15, Z13
 	VMULPD       resonatorRamp<>+128(SB), Z13, Z13
-	VBROADCASTSD 128(DI), Z15
-	VBROADCASTSD 136(DI), Z17
+	VBROADCASTSD 192(DI), Z15
+	VBROADCASTSD 224(DI), Z17
 	VMULPD       resonatorRamp<>+64(SB), Z17, Z18
 	VFMADD231PD  resonatorRamp<>+0(SB), Z15, Z18
 	VSUBPD       Z15, Z17, Z15
 	VMULPD       resonatorRamp<>+128(SB), Z15, Z15
-	VBROADCASTSD 192(DI), Z17
-	VBROADCASTSD 200(DI), Z19
+	VBROADCASTSD 280(DI), Z17
+	VBROADCASTSD 312(DI), Z19
 	VMULPD       resonatorRamp<>+64(SB), Z19, Z20
 	VFMADD231PD  resonatorRamp<>+0(SB), Z17, Z20
 	VSUBPD       Z17, Z19, Z17
@@ -261,7 +261,7 @@ span4AVX5120:
 	ADDQ         $0x00000008, DI
 	DECQ         R8
 	JNZ          span4AVX5120
-	ADDQ         $0x00000100, CX
+	ADDQ         $0x00000160, CX
 	SUBQ         $0x00000004, BX
 	JMP          group4
 
@@ -270,7 +270,7 @@ group4Done:
 	JL   group2Done
 
 	// 2 partials, lanes 0 to 7: seed each resonator
-	MOVQ         56(CX), SI
+	MOVQ         80(CX), SI
 	IMUL3Q       $0x00000108, SI, SI
 	ADDQ         DX, SI
 	VBROADCASTSD (CX), Z0
@@ -280,30 +280,30 @@ group4Done:
 	VMULPD       192(SI), Z1, Z1
 	VFMADD231PD  128(SI), Z0, Z1
 	VBROADCASTSD 256(SI), Z0
-	MOVQ         120(CX), SI
+	MOVQ         168(CX), SI
 	IMUL3Q       $0x00000108, SI, SI
 	ADDQ         DX, SI
-	VBROADCASTSD 64(CX), Z3
-	VBROADCASTSD 72(CX), Z4
+	VBROADCASTSD 88(CX), Z3
+	VBROADCASTSD 96(CX), Z4
 	VMULPD       64(SI), Z4, Z5
 	VFMADD231PD  (SI), Z3, Z5
 	VMULPD       192(SI), Z4, Z4
 	VFMADD231PD  128(SI), Z3, Z4
 	VBROADCASTSD 256(SI), Z3
 	LEAQ         (AX), SI
-	LEAQ         16(CX), DI
+	MOVQ         CX, DI
 	MOVQ         $0x00000004, R8
 
 span2AVX5120:
 	// the gain ramp across this span: lo·(1 − j/64) + (hi·j/64), stepping (hi − lo)·8/64
-	VBROADCASTSD (DI), Z6
-	VBROADCASTSD 8(DI), Z7
+	VBROADCASTSD 16(DI), Z6
+	VBROADCASTSD 48(DI), Z7
 	VMULPD       resonatorRamp<>+64(SB), Z7, Z8
 	VFMADD231PD  resonatorRamp<>+0(SB), Z6, Z8
 	VSUBPD       Z6, Z7, Z6
 	VMULPD       resonatorRamp<>+128(SB), Z6, Z6
-	VBROADCASTSD 64(DI), Z7
-	VBROADCASTSD 72(DI), Z9
+	VBROADCASTSD 104(DI), Z7
+	VBROADCASTSD 136(DI), Z9
 	VMULPD       resonatorRamp<>+64(SB), Z9, Z10
 	VFMADD231PD  resonatorRamp<>+0(SB), Z7, Z10
 	VSUBPD       Z7, Z9, Z7
@@ -392,7 +392,7 @@ span2AVX5120:
 	ADDQ         $0x00000008, DI
 	DECQ         R8
 	JNZ          span2AVX5120
-	ADDQ         $0x00000080, CX
+	ADDQ         $0x000000b0, CX
 	SUBQ         $0x00000002, BX
 
 group2Done:
@@ -400,7 +400,7 @@ group2Done:
 	JL   group1Done
 
 	// 1 partials, lanes 0 to 7: seed each resonator
-	MOVQ         56(CX), SI
+	MOVQ         80(CX), SI
 	IMUL3Q       $0x00000108, SI, SI
 	ADDQ         DX, SI
 	VBROADCASTSD (CX), Z0
@@ -411,13 +411,13 @@ group2Done:
 	VFMADD231PD  128(SI), Z0, Z1
 	VBROADCASTSD 256(SI), Z0
 	LEAQ         (AX), AX
-	LEAQ         16(CX), DX
+	MOVQ         CX, DX
 	MOVQ         $0x00000004, SI
 
 span1AVX5120:
 	// the gain ramp across this span: lo·(1 − j/64) + (hi·j/64), stepping (hi − lo)·8/64
-	VBROADCASTSD (DX), Z3
-	VBROADCASTSD 8(DX), Z4
+	VBROADCASTSD 16(DX), Z3
+	VBROADCASTSD 48(DX), Z4
 	VMULPD       resonatorRamp<>+64(SB), Z4, Z5
 	VFMADD231PD  resonatorRamp<>+0(SB), Z3, Z5
 	VSUBPD       Z3, Z4, Z3
@@ -474,7 +474,7 @@ span1AVX5120:
 	ADDQ         $0x00000008, DX
 	DECQ         SI
 	JNZ          span1AVX5120
-	ADDQ         $0x00000040, CX
+	ADDQ         $0x00000058, CX
 	SUBQ         $0x00000001, BX
 
 group1Done:
@@ -494,7 +494,7 @@ group2:
 	JL   group2Done
 
 	// 2 partials, lanes 0 to 3: seed each resonator
-	MOVQ         56(CX), SI
+	MOVQ         80(CX), SI
 	IMUL3Q       $0x00000108, SI, SI
 	ADDQ         DX, SI
 	VBROADCASTSD (CX), Y0
@@ -504,30 +504,30 @@ group2:
 	VMULPD       192(SI), Y1, Y1
 	VFMADD231PD  128(SI), Y0, Y1
 	VBROADCASTSD 256(SI), Y0
-	MOVQ         120(CX), SI
+	MOVQ         168(CX), SI
 	IMUL3Q       $0x00000108, SI, SI
 	ADDQ         DX, SI
-	VBROADCASTSD 64(CX), Y3
-	VBROADCASTSD 72(CX), Y4
+	VBROADCASTSD 88(CX), Y3
+	VBROADCASTSD 96(CX), Y4
 	VMULPD       64(SI), Y4, Y5
 	VFMADD231PD  (SI), Y3, Y5
 	VMULPD       192(SI), Y4, Y4
 	VFMADD231PD  128(SI), Y3, Y4
 	VBROADCASTSD 256(SI), Y3
 	LEAQ         (AX), SI
-	LEAQ         16(CX), DI
+	MOVQ         CX, DI
 	MOVQ         $0x00000004, R8
 
 span2AVX20:
 	// the gain ramp across this span: lo·(1 − j/64) + (hi·j/64), stepping (hi − lo)·8/64
-	VBROADCASTSD (DI), Y6
-	VBROADCASTSD 8(DI), Y7
+	VBROADCASTSD 16(DI), Y6
+	VBROADCASTSD 48(DI), Y7
 	VMULPD       resonatorRamp<>+64(SB), Y7, Y8
 	VFMADD231PD  resonatorRamp<>+0(SB), Y6, Y8
 	VSUBPD       Y6, Y7, Y6
 	VMULPD       resonatorRamp<>+128(SB), Y6, Y6
-	VBROADCASTSD 64(DI), Y7
-	VBROADCASTSD 72(DI), Y9
+	VBROADCASTSD 104(DI), Y7
+	VBROADCASTSD 136(DI), Y9
 	VMULPD       resonatorRamp<>+64(SB), Y9, Y10
 	VFMADD231PD  resonatorRamp<>+0(SB), Y7, Y10
 	VSUBPD       Y7, Y9, Y7
@@ -618,7 +618,7 @@ span2AVX20:
 	JNZ          span2AVX20
 
 	// 2 partials, lanes 4 to 7: seed each resonator
-	MOVQ         56(CX), SI
+	MOVQ         80(CX), SI
 	IMUL3Q       $0x00000108, SI, SI
 	ADDQ         DX, SI
 	VBROADCASTSD (CX), Y0
@@ -628,30 +628,30 @@ span2AVX20:
 	VMULPD       224(SI), Y1, Y1
 	VFMADD231PD  160(SI), Y0, Y1
 	VBROADCASTSD 256(SI), Y0
-	MOVQ         120(CX), SI
+	MOVQ         168(CX), SI
 	IMUL3Q       $0x00000108, SI, SI
 	ADDQ         DX, SI
-	VBROADCASTSD 64(CX), Y3
-	VBROADCASTSD 72(CX), Y4
+	VBROADCASTSD 88(CX), Y3
+	VBROADCASTSD 96(CX), Y4
 	VMULPD       96(SI), Y4, Y5
 	VFMADD231PD  32(SI), Y3, Y5
 	VMULPD       224(SI), Y4, Y4
 	VFMADD231PD  160(SI), Y3, Y4
 	VBROADCASTSD 256(SI), Y3
 	LEAQ         32(AX), SI
-	LEAQ         16(CX), DI
+	MOVQ         CX, DI
 	MOVQ         $0x00000004, R8
 
 span2AVX21:
 	// the gain ramp across this span: lo·(1 − j/64) + (hi·j/64), stepping (hi − lo)·8/64
-	VBROADCASTSD (DI), Y6
-	VBROADCASTSD 8(DI), Y7
+	VBROADCASTSD 16(DI), Y6
+	VBROADCASTSD 48(DI), Y7
 	VMULPD       resonatorRamp<>+96(SB), Y7, Y8
 	VFMADD231PD  resonatorRamp<>+32(SB), Y6, Y8
 	VSUBPD       Y6, Y7, Y6
 	VMULPD       resonatorRamp<>+160(SB), Y6, Y6
-	VBROADCASTSD 64(DI), Y7
-	VBROADCASTSD 72(DI), Y9
+	VBROADCASTSD 104(DI), Y7
+	VBROADCASTSD 136(DI), Y9
 	VMULPD       resonatorRamp<>+96(SB), Y9, Y10
 	VFMADD231PD  resonatorRamp<>+32(SB), Y7, Y10
 	VSUBPD       Y7, Y9, Y7
@@ -740,7 +740,7 @@ span2AVX21:
 	ADDQ         $0x00000008, DI
 	DECQ         R8
 	JNZ          span2AVX21
-	ADDQ         $0x00000080, CX
+	ADDQ         $0x000000b0, CX
 	SUBQ         $0x00000002, BX
 	JMP          group2
 
@@ -749,7 +749,7 @@ group2Done:
 	JL   group1Done
 
 	// 1 partials, lanes 0 to 3: seed each resonator
-	MOVQ         56(CX), SI
+	MOVQ         80(CX), SI
 	IMUL3Q       $0x00000108, SI, SI
 	ADDQ         DX, SI
 	VBROADCASTSD (CX), Y0
@@ -760,13 +760,13 @@ group2Done:
 	VFMADD231PD  128(SI), Y0, Y1
 	VBROADCASTSD 256(SI), Y0
 	LEAQ         (AX), SI
-	LEAQ         16(CX), DI
+	MOVQ         CX, DI
 	MOVQ         $0x00000004, R8
 
 span1AVX20:
 	// the gain ramp across this span: lo·(1 − j/64) + (hi·j/64), stepping (hi − lo)·8/64
-	VBROADCASTSD (DI), Y3
-	VBROADCASTSD 8(DI), Y4
+	VBROADCASTSD 16(DI), Y3
+	VBROADCASTSD 48(DI), Y4
 	VMULPD       resonatorRamp<>+64(SB), Y4, Y5
 	VFMADD231PD  resonatorRamp<>+0(SB), Y3, Y5
 	VSUBPD       Y3, Y4, Y3
@@ -825,7 +825,7 @@ span1AVX20:
 	JNZ          span1AVX20
 
 	// 1 partials, lanes 4 to 7: seed each resonator
-	MOVQ         56(CX), SI
+	MOVQ         80(CX), SI
 	IMUL3Q       $0x00000108, SI, SI
 	ADDQ         DX, SI
 	VBROADCASTSD (CX), Y0
@@ -836,13 +836,13 @@ span1AVX20:
 	VFMADD231PD  160(SI), Y0, Y1
 	VBROADCASTSD 256(SI), Y0
 	LEAQ         32(AX), AX
-	LEAQ         16(CX), DX
+	MOVQ         CX, DX
 	MOVQ         $0x00000004, SI
 
 span1AVX21:
 	// the gain ramp across this span: lo·(1 − j/64) + (hi·j/64), stepping (hi − lo)·8/64
-	VBROADCASTSD (DX), Y3
-	VBROADCASTSD 8(DX), Y4
+	VBROADCASTSD 16(DX), Y3
+	VBROADCASTSD 48(DX), Y4
 	VMULPD       resonatorRamp<>+96(SB), Y4, Y5
 	VFMADD231PD  resonatorRamp<>+32(SB), Y3, Y5
 	VSUBPD       Y3, Y4, Y3
@@ -899,7 +899,7 @@ span1AVX21:
 	ADDQ         $0x00000008, DX
 	DECQ         SI
 	JNZ          span1AVX21
-	ADDQ         $0x00000040, CX
+	ADDQ         $0x00000058, CX
 	SUBQ         $0x00000001, BX
 
 group1Done:

@@ -26,8 +26,8 @@ func resonatorCase(rng *rand.Rand, n int) ([]ResonatorJob, []ResonatorTable) {
 	for i, p := range rng.Perm(n) {
 		job := &jobs[i]
 		job.Sin, job.Cos = math.Sincos(2 * math.Pi * rng.Float64())
-		for m := range job.Levels {
-			job.Levels[m] = rng.Float64()*2 - 1
+		for m := range SpansPerBlock {
+			job.From[m], job.To[m] = rng.Float64()*2-1, rng.Float64()*2-1
 		}
 		job.Table = p
 	}
@@ -74,7 +74,7 @@ func TestResonatorsFollowTheSine(t *testing.T) {
 		table.StepCos[j], table.StepSin[j] = -2*math.Sin(4*w)*s, 2*math.Sin(4*w)*c
 	}
 	table.NegK = -4 * math.Sin(4*w) * math.Sin(4*w)
-	job := ResonatorJob{Levels: [SpansPerBlock + 1]float64{1, 1, 1, 1, 1}}
+	job := ResonatorJob{From: [SpansPerBlock]float64{1, 1, 1, 1}, To: [SpansPerBlock]float64{1, 1, 1, 1}}
 	job.Sin, job.Cos = math.Sincos(theta)
 	for _, isa := range Supported() {
 		var block [BlockFrames]float64

@@ -38,6 +38,22 @@ type Patch struct {
 	Name     string    `json:"name"`
 	SHA256   string    `json:"sha256"`
 	Includes []Include `json:"includes,omitempty"`
+	// Tuning is set when scale files tuned the keyboard.
+	Tuning *Tuning `json:"tuning,omitempty"`
+}
+
+// Tuning records the scale files that tuned a set, and the frequency of
+// every key they map, which verify holds the mapping to.
+type Tuning struct {
+	Scale  Include  `json:"scale"`
+	Keymap *Include `json:"keymap,omitempty"`
+	Keys   []Key    `json:"keys"` // every mapped key, ascending
+}
+
+// Key is one key of a tuned keyboard.
+type Key struct {
+	Key int     `json:"key"`
+	Hz  float64 `json:"hz"`
 }
 
 // Include is a file the patch pulled partial groups from.
@@ -75,6 +91,12 @@ type File struct {
 	// Measured holds the levels levelling read before the gain, at full
 	// precision, so a later render can level without rendering again.
 	Measured *Measured `json:"measured,omitempty"`
+	// VelocityFadeIn and VelocityFadeOut are where the file's layer
+	// cross-fades with the layers below and above it: silent at the first
+	// velocity and full at the second for a fade in, the other way round
+	// for a fade out; nil where it does not.
+	VelocityFadeIn  *[2]int `json:"velocity_fade_in,omitempty"`
+	VelocityFadeOut *[2]int `json:"velocity_fade_out,omitempty"`
 }
 
 // Measured are a file's levels before its gain: sample and true peak as

@@ -7,6 +7,8 @@ import (
 	"bufio"
 	"fmt"
 	"io"
+	"math"
+	"slices"
 	"strings"
 )
 
@@ -23,6 +25,24 @@ type Region struct {
 	// SeqPosition (1-based) and SeqLength place the sample in a round-robin
 	// cycle; a SeqLength of 1 or less means no round robin.
 	SeqPosition, SeqLength int
+	// Transpose (semitones) and Tune (cents) move the region's pitch from
+	// what 12-TET repitching from Root gives; see PitchOffset.
+	Transpose, Tune int
+	// FadeIn and FadeOut are velocity crossfades, xfin_lovel/xfin_hivel
+	// and xfout_lovel/xfout_hivel: silent at FadeIn[0], full at FadeIn[1],
+	// full at FadeOut[0], silent at FadeOut[1]; {0, 0} for none.
+	FadeIn, FadeOut [2]int
+}
+
+// PitchOffset splits an offset in cents from 12-TET repitching into the
+// whole semitones of transpose and the whole cents of tune, the units the
+// SFZ format gives them (sfzformat.com: transpose −127..127 semitones,
+// tune −100..100 cents; many players read both as whole numbers), tune
+// kept within ±50 so no player's range is exceeded. What whole cents
+// cannot hold, at most half a cent, is lost.
+func PitchOffset(cents float64) (transpose, tune int) {
+	transpose = int(math.Round(cents / 100))
+	return transpose, int(math.Round(cents - 100*float64(transpose)))
 }
 
 // Options describes the whole mapping.
@@ -51,10 +71,27 @@ func WriteSFZ(w io.Writer, regions []Region, opts Options) error {
 	if opts.Release > 0 {
 		fmt.Fprintf(bw, " ampeg_release=%.4g", opts.Release)
 	}
+	if slices.ContainsFunc(regions, func(r Region) bool { return r.FadeIn != [2]int{} || r.FadeOut != [2]int{} }) {
+		// Layers that cross-fade are different recordings, not phase
+		// aligned: the equal-power curve keeps their sum's level.
+		bw.WriteString(" xf_velcurve=power")
+	}
 	bw.WriteString("\n")
 	for _, r := range regions {
-		fmt.Fprintf(bw, "<region> sample=%s pitch_keycenter=%d lokey=%d hikey=%d lovel=%d hivel=%d",
-			r.Sample, r.Root, r.LowKey, r.HighKey, r.LowVel, r.HighVel)
+		fmt.Fprintf(bw, "<region> sample=%s pitch_keycenter=%d lokey=%d hikey=%d", r.Sample, r.Root, r.LowKey, r.HighKey)
+		if r.Transpose != 0 {
+			fmt.Fprintf(bw, " transpose=%d", r.Transpose)
+		}
+		if r.Tune != 0 {
+			fmt.Fprintf(bw, " tune=%d", r.Tune)
+		}
+		fmt.Fprintf(bw, " lovel=%d hivel=%d", r.LowVel, r.HighVel)
+		if r.FadeIn != [2]int{} {
+			fmt.Fprintf(bw, " xfin_lovel=%d xfin_hivel=%d", r.FadeIn[0], r.FadeIn[1])
+		}
+		if r.FadeOut != [2]int{} {
+			fmt.Fprintf(bw, " xfout_lovel=%d xfout_hivel=%d", r.FadeOut[0], r.FadeOut[1])
+		}
 		if r.Looped {
 			// loop_sustain: loop while the key is held, then play on into the
 			// release rendered after the loop.

@@ -1,22 +1,23 @@
 // Package sampleset renders a whole patch.Plan into a folder: the WAV files,
 // the SFZ mapping and manifest.json. The folder is replaced as a unit: the
 // set is rendered into a staging folder beside it and swapped in only when
-// complete, so a failed or interrupted render leaves the previous set as it
-// was.
+// complete and on disk, so a failed, interrupted or killed render, or a
+// power loss, leaves the previous set as it was. One build writes a folder
+// at a time (a lock file beside it), and each removes what builds of the
+// same folder that were killed left beside it.
 package sampleset
 
 import (
-	"bufio"
 	"context"
 	"crypto/sha256"
 	"encoding/hex"
-	"errors"
 	"fmt"
 	"io"
 	"math"
 	"os"
 	"path/filepath"
 	"slices"
+	"strconv"
 	"sync"
 
 	"sinter/patch"
@@ -44,6 +45,40 @@ type Options struct {
 	// Shard, if its Count is above 1, renders one slice of the set (see
 	// Shard); Merge joins the slices.
 	Shard Shard
+	// NoWait fails with a *BusyError at once while another process writes
+	// the output folder, instead of waiting until it is done.
+	NoWait bool
+	// Notice, if set, is told as it happens what the build does besides
+	// rendering: that it waits for the output folder and who holds it,
+	// and the leftovers of ended builds it removes (see Leftover).
+	Notice func(msg string)
+	// Reached, if set, is called as the build passes each Stage, from the
+	// goroutine that reaches it.
+	Reached func(Stage)
+}
+
+// Stage is a point a build passes, told to Options.Reached.
+type Stage int
+
+// The stages, in the order a build passes them; a build in one pass (no
+// levelling, or a gain per file) skips Measured and Spilled.
+const (
+	Measured Stage = iota + 1 // the first pass measured a note
+	Spilled                   // the first pass kept a note on disk for the second
+	Wrote                     // a WAV file is synced and in place in the staging folder
+	Swapping                  // the staging folder is synced and about to replace the output folder
+	Swapped                   // the new set is in place and synced; the old one is about to go
+)
+
+var stageNames = [...]string{Measured: "measured", Spilled: "spilled", Wrote: "wrote", Swapping: "swapping", Swapped: "swapped"}
+
+// String is the stage's name: measured, spilled, wrote, swapping or
+// swapped.
+func (s Stage) String() string {
+	if s > 0 && int(s) < len(stageNames) {
+		return stageNames[s]
+	}
+	return "stage " + strconv.Itoa(int(s))
 }
 
 // Result describes a finished build.
@@ -61,6 +96,9 @@ type Result struct {
 	// from the set already in the output folder, unchanged.
 	Rendered, Reused int
 	Warnings         []string
+	// Removed are the leftovers of ended builds of the same output folder
+	// that this build removed before it began.
+	Removed []Leftover
 }
 
 // silentDBFS stands for the level of a file with no signal, which has no
@@ -77,6 +115,12 @@ var spillPartials = func() int64 {
 	return map[kernel.ISA]int64{kernel.Plain: 5, kernel.AVX2: 20, kernel.AVX512: 50}[kernel.Active()]
 }
 
+// dense reports whether a note whose render did the work stats is kept on
+// disk between the passes.
+func dense(stats synth.Stats, n *patch.Note) bool {
+	return stats.PartialSamples >= spillPartials()*int64(n.Frames)
+}
+
 // Build renders plan into plan.OutputDir.
 //
 // Levelling with one gain for the set (or per key) needs the level of
@@ -89,16 +133,28 @@ var spillPartials = func() int64 {
 // memory holds one note per job however large the set is.
 func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error) {
 	dir := plan.OutputDir
-	if err := opts.Limits.Check(EstimatePlan(plan)); err != nil {
+	est := EstimatePlan(plan)
+	if err := opts.Limits.Check(est); err != nil {
 		return nil, err
 	}
 	if err := checkReplaceable(dir); err != nil {
 		return nil, err
 	}
-	jobs := max(1, opts.Jobs)
+	out, err := claim(ctx, dir, opts)
+	if err != nil {
+		return nil, err
+	}
+	defer out.release()
+	own, measure := opts.Shard.slice(plan)
+	if opts.Shard.Count > 1 {
+		est = estimate(plan, own)
+	}
+	if err := checkRoom(dir, est); err != nil {
+		return nil, err
+	}
 	notes := plan.Notes
-	res := &Result{Dir: dir}
-	b := &build{plan: plan, opts: opts,
+	res := &Result{Dir: dir, Removed: out.removed}
+	b := &build{plan: plan, opts: opts, out: out, own: own, measure: measure, workers: newWorkers(opts.Jobs),
 		loops: make([]synth.Loop, len(notes)), looped: make([]bool, len(notes)),
 		gains: make([]float64, len(notes)), stats: make([]synth.Stats, len(notes)),
 		clipped: make([]bool, len(notes)), warnings: make([][]string, len(notes)),
@@ -108,30 +164,38 @@ func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error)
 	if !opts.Force {
 		b.previous = loadPrevious(dir)
 	}
-	for i := range notes {
+	// Loops and render keys on every worker: a render key hashes the whole
+	// note, which for dense notes is worth sharing out.
+	err = forEach(ctx, b.workers, len(notes), func(_ *worker, i int) error {
 		b.loops[i], b.looped[i] = synth.PlanLoop(&notes[i])
 		b.gains[i] = 1
 		b.keys[i] = renderKey(plan, &notes[i], opts.Version)
+		return nil
+	})
+	if err != nil {
+		return nil, err
 	}
-	staging, err := newStaging(dir)
+	staging, err := out.newStaging()
 	if err != nil {
 		return nil, err
 	}
 	defer os.RemoveAll(staging) // after a successful swap it no longer exists
 	b.staging = staging
+	ctx, fail := context.WithCancelCause(ctx)
+	defer fail(nil)
+	b.commits = &commits{slots: make(chan struct{}, 2*len(b.workers)), fail: fail}
 	b.manifest = &manifest.Manifest{
 		Sinter:    opts.Version,
-		Patch:     manifest.Patch{Name: plan.Name, SHA256: plan.PatchSHA256, Includes: includes(plan)},
+		Patch:     manifestPatch(plan),
 		Levelling: plan.Normalize.String(),
 		Mapping:   plan.Name + ".sfz",
 		Files:     make([]manifest.File, len(notes)),
 	}
 
 	norm := plan.Normalize
-	b.own, b.measure = opts.Shard.slice(plan)
 	if norm.Measure == patch.MeasureOff || norm.Scope == patch.ScopeFile {
 		truePeak, loudness := needs(norm)
-		err = b.each(ctx, jobs, b.own, func(w *worker, i int) error {
+		err = b.each(ctx, b.own, func(w *worker, i int) error {
 			if lv, ok := b.previous.measured(b.keys[i], truePeak, loudness); ok || norm.Measure == patch.MeasureOff {
 				// The gain follows from the note alone, so an unchanged
 				// note keeps its file.
@@ -153,7 +217,12 @@ func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error)
 			return b.finish(w, i, buf)
 		})
 	} else {
-		err = b.twoPasses(ctx, jobs, res)
+		err = b.twoPasses(ctx, res)
+	}
+	// Every file is synced and in place, or has failed, before the set
+	// is finished or the staging folder removed.
+	if cerr := b.commits.wait(); err == nil {
+		err = cerr
 	}
 	if err != nil {
 		return nil, err
@@ -175,7 +244,7 @@ func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error)
 	m := b.manifest
 	if opts.Shard.Count > 1 {
 		b.shardManifest()
-	} else if err := writeMapping(filepath.Join(staging, m.Mapping), notes, b.loops, b.looped, plan.Name); err != nil {
+	} else if err := writeMapping(filepath.Join(staging, m.Mapping), plan, b.loops, b.looped); err != nil {
 		return nil, err
 	}
 	if err := writeAtomically(filepath.Join(staging, manifest.FileName), func(w io.Writer) error { return manifest.Write(w, m) }); err != nil {
@@ -184,26 +253,17 @@ func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error)
 	if err := ctx.Err(); err != nil {
 		return nil, err
 	}
-	if err := swap(staging, dir); err != nil {
+	if err := out.swap(staging); err != nil {
 		return nil, err
 	}
 	res.Manifest = m
 	return res, nil
 }
 
-// each calls fn for the notes idx on jobs goroutines, as forEach does.
-func (b *build) each(ctx context.Context, jobs int, idx []int, fn func(w *worker, i int) error) error {
-	return forEach(ctx, jobs, len(idx), func(w *worker, j int) error { return fn(w, idx[j]) })
-}
-
-// includes lists the plan's included files for the manifest, with
-// '/'-separated paths.
-func includes(plan *patch.Plan) []manifest.Include {
-	var list []manifest.Include
-	for _, in := range plan.Includes {
-		list = append(list, manifest.Include{Path: filepath.ToSlash(in.Path), SHA256: in.SHA256})
-	}
-	return list
+// each calls fn for the notes idx on the build's workers, as forEach
+// does.
+func (b *build) each(ctx context.Context, idx []int, fn func(w *worker, i int) error) error {
+	return forEach(ctx, b.workers, len(idx), func(w *worker, j int) error { return fn(w, idx[j]) })
 }
 
 // build is the state of one Build, indexed by note. Workers write only
@@ -211,6 +271,8 @@ func includes(plan *patch.Plan) []manifest.Include {
 type build struct {
 	plan     *patch.Plan
 	opts     Options
+	out      *output
+	commits  *commits
 	staging  string
 	loops    []synth.Loop
 	looped   []bool
@@ -226,6 +288,7 @@ type build struct {
 	rendered []bool
 	reused   []bool
 	previous *previous // the set already in the output folder, or nil
+	workers  []*worker // one per job, for every pass
 	// own are the notes this build writes, measure those it measures (all
 	// of them unless it is a shard).
 	own, measure []int
@@ -235,13 +298,13 @@ type build struct {
 }
 
 // twoPasses measures every note, sets the gains and then writes the notes.
-func (b *build) twoPasses(ctx context.Context, jobs int, res *Result) error {
+func (b *build) twoPasses(ctx context.Context, res *Result) error {
 	notes := b.plan.Notes
 	measured := make([]levels, len(notes))
 	kept := newSpills(b.staging, len(notes))
 	defer kept.remove() // on failure; the staging folder goes as well
 	truePeak, loudness := needs(b.plan.Normalize)
-	err := b.each(ctx, jobs, b.measure, func(w *worker, i int) error {
+	err := b.each(ctx, b.measure, func(w *worker, i int) error {
 		if lv, ok := b.previous.measured(b.keys[i], truePeak, loudness); ok {
 			measured[i] = lv
 			b.measured[i] = measuredEntry(lv, truePeak, loudness)
@@ -250,10 +313,15 @@ func (b *build) twoPasses(ctx context.Context, jobs int, res *Result) error {
 		buf := b.render(w, i)
 		measured[i] = w.measure(buf, &notes[i], truePeak, loudness)
 		b.measured[i] = measuredEntry(measured[i], truePeak, loudness)
-		if !slices.Contains(b.own, i) || b.stats[i].PartialSamples < spillPartials()*int64(notes[i].Frames) {
+		b.out.stage(Measured)
+		if !slices.Contains(b.own, i) || !dense(b.stats[i], &notes[i]) {
 			return nil
 		}
-		return kept.keep(w, i, buf)
+		if err := kept.keep(w, i, buf); err != nil {
+			return err
+		}
+		b.out.stage(Spilled)
+		return nil
 	})
 	if err != nil {
 		return err
@@ -266,7 +334,7 @@ func (b *build) twoPasses(ctx context.Context, jobs int, res *Result) error {
 	res.Warnings = append(res.Warnings, warnings...)
 	rerendered := make([]bool, len(notes))
 	again := make([]synth.Stats, len(notes))
-	err = b.each(ctx, jobs, b.own, func(w *worker, i int) error {
+	err = b.each(ctx, b.own, func(w *worker, i int) error {
 		if f, ok := b.previous.file(b.keys[i], b.gains[i]); ok {
 			return b.keep(i, f)
 		}
@@ -353,7 +421,7 @@ func (b *build) finish(w *worker, i int, buf []float64) error {
 	if b.looped[i] {
 		loop = &b.loops[i]
 	}
-	sum, err := writeWAV(filepath.Join(b.staging, n.File), buf, n, b.plan, loop)
+	sum, commit, err := writeWAV(filepath.Join(b.staging, n.File), buf, n, b.plan, loop)
 	if err != nil {
 		return err
 	}
@@ -362,7 +430,14 @@ func (b *build) finish(w *worker, i int, buf []float64) error {
 	f.RenderKey, f.Measured = b.keys[i], b.measured[i]
 	f.SHA256 = sum
 	b.manifest.Files[i] = f
-	b.progress(n.File)
+	b.commits.start(func() error {
+		if err := commit(); err != nil {
+			return err
+		}
+		b.out.stage(Wrote)
+		b.progress(n.File)
+		return nil
+	})
 	return nil
 }
 
@@ -394,6 +469,7 @@ func manifestEntry(n *patch.Note, bitDepth, frames int, gain float64, lv levels,
 		PeakDBFS: roundDB(decibels(lv.peak)), TruePeakDBTP: roundDB(decibels(lv.truePeak)),
 		LoudnessLUFS: roundDB(lv.loudness), GainDB: decibels(gain), Partials: len(n.Partials),
 	}
+	f.VelocityFadeIn, f.VelocityFadeOut = fades(n)
 	if loop != nil {
 		seam, inside := synth.SeamStep(buf, n.Channels, *loop)
 		ratio := 0.0
@@ -440,20 +516,31 @@ func (w *worker) measure(buf []float64, n *patch.Note, truePeak, loud bool) leve
 	return lv
 }
 
-// forEach calls fn for every index below count on jobs goroutines, each
-// with its own worker. It stops handing out indices after the first error or
-// when ctx is cancelled, and returns that error. Results must be stored by
-// index, which keeps the output independent of the number of jobs.
-func forEach(ctx context.Context, jobs, count int, fn func(w *worker, i int) error) error {
+// newWorkers returns jobs workers, which keep their buffers, renderers
+// and meters from one pass to the next: a second pass that made its own
+// would allocate and fault in the same memory again.
+func newWorkers(jobs int) []*worker {
+	w := make([]*worker, max(1, jobs))
+	for i := range w {
+		w[i] = &worker{}
+	}
+	return w
+}
+
+// forEach calls fn for every index below count on one goroutine per
+// worker (or fewer, if count is smaller), each with its own worker. It
+// stops handing out indices after the first error or when ctx is
+// cancelled, and returns that error. Results must be stored by index,
+// which keeps the output independent of the number of workers.
+func forEach(ctx context.Context, workers []*worker, count int, fn func(w *worker, i int) error) error {
 	ctx, cancel := context.WithCancelCause(ctx)
 	defer cancel(nil)
 	next := make(chan int)
 	var wg sync.WaitGroup
-	for range min(jobs, max(count, 1)) {
+	for _, w := range workers[:min(len(workers), max(count, 1))] {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
-			w := &worker{}
 			for i := range next {
 				if err := fn(w, i); err != nil {
 					cancel(err)
@@ -477,8 +564,9 @@ feed:
 	return context.Cause(ctx)
 }
 
-// writeWAV encodes one note and returns the file's SHA-256 in hex.
-func writeWAV(path string, buf []float64, n *patch.Note, plan *patch.Plan, loop *synth.Loop) (string, error) {
+// writeWAV encodes one note and returns the file's SHA-256 in hex, and
+// commit, which syncs the file and gives it its name (see writeUnsynced).
+func writeWAV(path string, buf []float64, n *patch.Note, plan *patch.Plan, loop *synth.Loop) (sum string, commit func() error, err error) {
 	sampler := &wav.Sampler{UnityNote: uint8(n.Key)}
 	if loop != nil {
 		sampler.Loops = []wav.Loop{{Start: uint32(loop.Start), End: uint32(loop.End)}}
@@ -500,121 +588,24 @@ func writeWAV(path string, buf []float64, n *patch.Note, plan *patch.Plan, loop 
 		},
 	}
 	h := sha256.New()
-	err := writeAtomically(path, func(w io.Writer) error {
+	commit, err = writeUnsynced(path, func(w io.Writer) error {
 		return wav.Encode(io.MultiWriter(w, h), buf, opts)
 	})
-	return hex.EncodeToString(h.Sum(nil)), err
+	return hex.EncodeToString(h.Sum(nil)), commit, err
 }
 
-// create opens a new file for writing; tests replace it to inject faults.
-var create = func(path string) (io.WriteCloser, error) { return os.Create(path) }
-
-// writeAtomically writes a file under a temporary name and renames it when
-// complete, so no reader ever sees half a file under the final name.
-func writeAtomically(path string, write func(io.Writer) error) error {
-	tmp := path + ".partial"
-	f, err := create(tmp)
-	if err != nil {
-		return fmt.Errorf("cannot create %s: %w", tmp, err)
-	}
-	bw := bufio.NewWriterSize(f, 256<<10)
-	err = write(bw)
-	if err == nil {
-		err = bw.Flush()
-	}
-	if cerr := f.Close(); err == nil {
-		err = cerr
-	}
-	if err == nil {
-		err = os.Rename(tmp, path)
-	}
-	if err != nil {
-		os.Remove(tmp)
-		return fmt.Errorf("cannot write %s: %w", path, err)
-	}
-	return nil
-}
-
-func writeMapping(path string, notes []patch.Note, loops []synth.Loop, looped []bool, title string) error {
-	regions := make([]mapping.Region, len(notes))
+func writeMapping(path string, plan *patch.Plan, loops []synth.Loop, looped []bool) error {
+	var regions []mapping.Region
 	release := 0.0
-	for i, n := range notes {
-		regions[i] = mapping.Region{Sample: n.File, Root: n.Key, LowKey: n.KeyLow, HighKey: n.KeyHigh, LowVel: n.VelLow, HighVel: n.VelHigh,
+	for i, n := range plan.Notes {
+		regions = append(regions, noteRegions(&n, plan.Tuning, mapping.Region{Sample: n.File, Root: n.Key, LowKey: n.KeyLow, HighKey: n.KeyHigh, LowVel: n.VelLow, HighVel: n.VelHigh,
 			Looped: looped[i], LoopStart: loops[i].Start, LoopEnd: loops[i].End,
-			SeqPosition: n.Variation + 1, SeqLength: n.Variations}
+			SeqPosition: n.Variation + 1, SeqLength: n.Variations})...)
 		for _, p := range n.Partials {
 			release = max(release, p.Envelope.Release)
 		}
 	}
 	return writeAtomically(path, func(w io.Writer) error {
-		return mapping.WriteSFZ(w, regions, mapping.Options{Title: title + ", rendered by sinter", Release: release})
+		return mapping.WriteSFZ(w, regions, mapping.Options{Title: plan.Name + ", rendered by sinter", Release: release})
 	})
-}
-
-// newStaging makes the staging folder a set is written into before it is
-// swapped in: beside dir, so the swap is a rename.
-func newStaging(dir string) (string, error) {
-	if err := os.MkdirAll(filepath.Dir(dir), 0o755); err != nil {
-		return "", fmt.Errorf("cannot create the output folder's parent: %w", err)
-	}
-	staging, err := os.MkdirTemp(filepath.Dir(dir), "."+filepath.Base(dir)+".staging-")
-	if err != nil {
-		return "", fmt.Errorf("cannot create a staging folder beside %s: %w", dir, err)
-	}
-	return staging, nil
-}
-
-// checkReplaceable refuses to replace a folder that sinter did not make:
-// one that exists, is not empty and has no manifest.
-func checkReplaceable(dir string) error {
-	info, err := os.Stat(dir)
-	if errors.Is(err, os.ErrNotExist) {
-		return nil
-	}
-	if err != nil {
-		return fmt.Errorf("cannot read the output folder: %w", err)
-	}
-	if !info.IsDir() {
-		return fmt.Errorf("the output path %s is a file, not a folder", dir)
-	}
-	entries, err := os.ReadDir(dir)
-	if err != nil {
-		return fmt.Errorf("cannot read the output folder: %w", err)
-	}
-	if len(entries) == 0 {
-		return nil
-	}
-	if _, err := os.Stat(filepath.Join(dir, manifest.FileName)); err != nil {
-		return fmt.Errorf("refusing to replace %s: it is not empty and holds no %s, so it is not a sample set sinter wrote; choose another output folder", dir, manifest.FileName)
-	}
-	return nil
-}
-
-// swap moves the finished staging folder to dir, replacing what was there.
-func swap(staging, dir string) error {
-	if err := checkReplaceable(dir); err != nil {
-		return err
-	}
-	old := ""
-	if _, err := os.Stat(dir); err == nil {
-		parking, err := os.MkdirTemp(filepath.Dir(dir), "."+filepath.Base(dir)+".previous-")
-		if err != nil {
-			return fmt.Errorf("cannot set the previous set aside: %w", err)
-		}
-		os.Remove(parking)
-		if err := os.Rename(dir, parking); err != nil {
-			return fmt.Errorf("cannot set the previous set aside: %w", err)
-		}
-		old = parking
-	}
-	if err := os.Rename(staging, dir); err != nil {
-		if old != "" {
-			os.Rename(old, dir)
-		}
-		return fmt.Errorf("cannot move the new set into %s: %w", dir, err)
-	}
-	if old != "" {
-		os.RemoveAll(old)
-	}
-	return nil
 }

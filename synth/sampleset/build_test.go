@@ -749,7 +749,7 @@ func TestShardsMergeToASingleRender(t *testing.T) {
 				shards = append(shards, dir)
 			}
 			merged := filepath.Join(root, "merged")
-			if err := sampleset.Merge(context.Background(), newPlan(t, src, merged), merged, shards, "test"); err != nil {
+			if err := sampleset.Merge(context.Background(), newPlan(t, src, merged), merged, shards, sampleset.Options{Version: "test"}); err != nil {
 				t.Fatal(err)
 			}
 			a, b := snapshot(t, single), snapshot(t, merged)
@@ -762,14 +762,14 @@ func TestShardsMergeToASingleRender(t *testing.T) {
 				}
 			}
 			plan := newPlan(t, src, filepath.Join(root, "again"))
-			if err := sampleset.Merge(context.Background(), plan, plan.OutputDir, shards[:2], "test"); err == nil || !strings.Contains(err.Error(), "2 of the 3 shards") {
+			if err := sampleset.Merge(context.Background(), plan, plan.OutputDir, shards[:2], sampleset.Options{Version: "test"}); err == nil || !strings.Contains(err.Error(), "2 of the 3 shards") {
 				t.Errorf("merging 2 of 3 shards: %v", err)
 			}
 			other := newPlan(t, strings.Replace(src, "0.2 * vel", "0.3 * vel", 1), plan.OutputDir)
-			if err := sampleset.Merge(context.Background(), other, plan.OutputDir, shards, "test"); err == nil || !strings.Contains(err.Error(), "another patch") {
+			if err := sampleset.Merge(context.Background(), other, plan.OutputDir, shards, sampleset.Options{Version: "test"}); err == nil || !strings.Contains(err.Error(), "another patch") {
 				t.Errorf("merging shards of another patch: %v", err)
 			}
-			if err := sampleset.Merge(context.Background(), plan, plan.OutputDir, []string{single}, "test"); err == nil || !strings.Contains(err.Error(), "not a shard") {
+			if err := sampleset.Merge(context.Background(), plan, plan.OutputDir, []string{single}, sampleset.Options{Version: "test"}); err == nil || !strings.Contains(err.Error(), "not a shard") {
 				t.Errorf("merging a whole set: %v", err)
 			}
 		})

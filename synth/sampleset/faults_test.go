@@ -4,7 +4,6 @@ import (
 	"context"
 	"errors"
 	"fmt"
-	"io"
 	"os"
 	"path/filepath"
 	"strings"
@@ -43,7 +42,10 @@ type budget struct {
 	left int
 }
 
-var errDiskFull = errors.New("injected: no space left")
+var (
+	errDiskFull   = errors.New("injected: no space left")
+	errSyncFailed = errors.New("injected: sync failed")
+)
 
 func (l *limitedFile) Write(p []byte) (int, error) {
 	l.budget.mu.Lock()
@@ -57,29 +59,49 @@ func (l *limitedFile) Write(p []byte) (int, error) {
 	return l.f.Write(p)
 }
 
+func (l *limitedFile) Sync() error  { return l.f.Sync() }
 func (l *limitedFile) Close() error { return l.f.Close() }
 
+// unsyncable is a file whose data never reaches the disk, as when the
+// device fails or a network file system loses the server.
+type unsyncable struct{ *os.File }
+
+func (unsyncable) Sync() error { return errSyncFailed }
+
+// faultyDisk is the real file system with files created by open.
+type faultyDisk struct {
+	sampleset.FileSystem
+	open func(path string) (sampleset.File, error)
+}
+
+func (d faultyDisk) Create(path string) (sampleset.File, error) { return d.open(path) }
+
 // TestFaultsKeepThePreviousSet: when writing fails part way through a set
-// (a writer that fails after some bytes, or /dev/full), the build fails
-// with an error naming the file, the previous set keeps every file and
-// hash it had, and nothing temporary is left beside it.
+// (a writer that fails after some bytes, /dev/full, or a sync that fails
+// after every byte was written), the build fails with an error naming the
+// file, the previous set keeps every file and hash it had, and nothing
+// temporary is left beside it.
 func TestFaultsKeepThePreviousSet(t *testing.T) {
 	spent := &budget{}
 	faults := []struct {
 		name   string
-		open   func(path string) (io.WriteCloser, error)
+		open   func(path string) (sampleset.File, error)
 		reason string
 	}{
-		{"fails after 150 kB", func(path string) (io.WriteCloser, error) {
+		{"fails after 150 kB", func(path string) (sampleset.File, error) {
 			f, err := os.Create(path)
 			return &limitedFile{f: f, budget: spent}, err
 		}, errDiskFull.Error()},
-		{"/dev/full", func(string) (io.WriteCloser, error) {
+		{"/dev/full", func(string) (sampleset.File, error) {
 			return os.OpenFile("/dev/full", os.O_WRONLY, 0)
 		}, syscall.ENOSPC.Error()},
+		{"sync fails", func(path string) (sampleset.File, error) {
+			f, err := os.Create(path)
+			return unsyncable{f}, err
+		}, errSyncFailed.Error()},
 	}
-	saved := *sampleset.Create
-	defer func() { *sampleset.Create = saved }()
+	saved := *sampleset.Disk
+	defer func() { *sampleset.Disk = saved }()
 	for _, fault := range faults {
 		t.Run(fault.name, func(t *testing.T) {
 			if fault.name == "/dev/full" {
@@ -89,15 +111,15 @@ func TestFaultsKeepThePreviousSet(t *testing.T) {
 			}
 			root := t.TempDir()
 			dir := filepath.Join(root, "set")
-			*sampleset.Create = saved
+			*sampleset.Disk = saved
 			if _, err := sampleset.Build(context.Background(), faultPlan(t, dir, 0.3), sampleset.Options{Jobs: 2}); err != nil {
 				t.Fatal(err)
 			}
 			before := snapshot(t, dir)
 			spent.left = 150_000
-			*sampleset.Create = fault.open
+			*sampleset.Disk = faultyDisk{saved, fault.open}
 			_, err := sampleset.Build(context.Background(), faultPlan(t, dir, 0.5), sampleset.Options{Jobs: 2})
-			*sampleset.Create = saved
+			*sampleset.Disk = saved
 			if err == nil || !strings.Contains(err.Error(), fault.reason) || !strings.Contains(err.Error(), "faults_") {
 				t.Fatalf("error %v; want one naming a file of the set and %q", err, fault.reason)
 			}

@@ -135,7 +135,7 @@ func Gain(ctx context.Context, plan *patch.Plan, i, jobs int) (float64, error) {
 	}
 	truePeak, loud := needs(norm)
 	lv := make([]levels, len(scope))
-	err := forEach(ctx, max(1, jobs), len(scope), func(w *worker, k int) error {
+	err := forEach(ctx, newWorkers(jobs), len(scope), func(w *worker, k int) error {
 		loop, _ := synth.PlanLoop(&scope[k])
 		lv[k] = w.measure(w.render(&scope[k], loop), &scope[k], truePeak, loud)
 		return nil

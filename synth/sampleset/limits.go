@@ -2,6 +2,8 @@ package sampleset
 
 import (
 	"fmt"
+	"os"
+	"path/filepath"
 
 	"sinter/patch"
 	"sinter/synth"
@@ -14,14 +16,30 @@ type Estimate struct {
 	AudioSeconds   float64 // an upper bound where tails end by level
 	Bytes          int64   // of the WAV files
 	PartialSamples int64   // nominal: partials × frames, before skipping silence
+	// SpillBytes are the dense notes a set levelled as a whole keeps on
+	// disk between its passes, in the staging folder beside the set: the
+	// most it keeps, since notes an earlier set already measured are not
+	// rendered in the first pass.
+	SpillBytes int64
 }
 
 // EstimatePlan adds up what plan will produce. Its partial-samples leave
 // out the continuation of crossfade loops (see synth.WorkLooped), which
 // would need every note's loop planned.
 func EstimatePlan(plan *patch.Plan) Estimate {
-	e := Estimate{Files: len(plan.Notes)}
-	for i := range plan.Notes {
+	all := make([]int, len(plan.Notes))
+	for i := range all {
+		all[i] = i
+	}
+	return estimate(plan, all)
+}
+
+// estimate adds up what the notes idx of plan will produce.
+func estimate(plan *patch.Plan, idx []int) Estimate {
+	e := Estimate{Files: len(idx)}
+	norm := plan.Normalize
+	twoPasses := norm.Measure != patch.MeasureOff && norm.Scope != patch.ScopeFile
+	for _, i := range idx {
 		n := &plan.Notes[i]
 		e.AudioSeconds += float64(n.Frames) / float64(n.SampleRate)
 		sampler := &wav.Sampler{}
@@ -30,9 +48,69 @@ func EstimatePlan(plan *patch.Plan) Estimate {
 		}
 		e.Bytes += wav.Size(n.Frames, wav.Options{SampleRate: n.SampleRate, BitDepth: plan.BitDepth, Channels: n.Channels,
 			Sampler: sampler, Instrument: &wav.Instrument{}})
-		e.PartialSamples += synth.Work(n).Nominal
+		work := synth.Work(n)
+		e.PartialSamples += work.Nominal
+		if !twoPasses {
+			continue
+		}
+		// What twoPasses keeps goes by the work RenderLooped does, a
+		// crossfade loop's continuation included.
+		if loop, looped := synth.PlanLoop(n); looped && loop.Crossfade > 0 {
+			work = synth.WorkLooped(n, loop)
+		}
+		if dense(work, n) {
+			e.SpillBytes += int64(synth.Frames(n)) * 8
+		}
 	}
 	return e
+}
+
+// RoomError is a build that needs more space than the file system of its
+// output folder has free.
+type RoomError struct {
+	Dir          string
+	Needed       int64 // the set and the notes kept between the passes
+	Spill        int64 // of Needed, the notes kept between the passes
+	Free         int64
+	FileSystemAt string // the folder whose file system was asked
+}
+
+// Error names the bytes needed and the bytes free.
+func (e *RoomError) Error() string {
+	spill := ""
+	if e.Spill > 0 {
+		spill = fmt.Sprintf(", %s of them for the dense notes kept between the passes", sizeText(e.Spill))
+	}
+	return fmt.Sprintf("not enough free space for %s: the render needs %d bytes (%s%s), and the file system of %s has %d bytes (%s) free",
+		e.Dir, e.Needed, sizeText(e.Needed), spill, e.FileSystemAt, e.Free, sizeText(e.Free))
+}
+
+// freeSpaceAt is the free space of a folder's file system; tests replace
+// it.
+var freeSpaceAt = freeSpace
+
+// checkRoom returns a *RoomError if the set e describes, with the notes
+// kept between its passes, would not fit in the free space of the file
+// system that will hold dir (that of its nearest existing folder), so a
+// render fails at once rather than after minutes. Where the free space
+// cannot be read, it lets the render try.
+func checkRoom(dir string, e Estimate) error {
+	at, err := filepath.Abs(dir)
+	if err != nil {
+		return nil
+	}
+	for {
+		if _, err := os.Stat(at); err == nil || filepath.Dir(at) == at {
+			break
+		}
+		at = filepath.Dir(at)
+	}
+	free, ok := freeSpaceAt(at)
+	needed := e.Bytes + e.SpillBytes
+	if !ok || needed <= free {
+		return nil
+	}
+	return &RoomError{Dir: dir, Needed: needed, Spill: e.SpillBytes, Free: free, FileSystemAt: at}
 }
 
 // Limits bound what one Build may produce, so a typing slip in a patch

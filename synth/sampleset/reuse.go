@@ -17,8 +17,10 @@ import (
 // renderKey is a hash of everything that decides a note's file apart from
 // its levelling gain: the sinter version (every set of kernels gives the
 // same bits, so the one in use is not part of it), the output format and the note as
-// the plan resolved it — key and velocity ranges, partials, envelopes,
-// motion, seeds, loop request. An empty key means the note cannot be
+// the plan resolved it — key and velocity ranges, crossfades, fundamental,
+// partials, envelopes, motion, seeds, loop request. The fundamental is
+// what a scale file gives a root, so editing the scale renders again the
+// roots it moves and no others. An empty key means the note cannot be
 // keyed and is always rendered.
 func renderKey(plan *patch.Plan, n *patch.Note, version string) string {
 	h := sha256.New()
@@ -107,7 +109,7 @@ func intact(dir string, f manifest.File) bool {
 // where the file system allows it, else a copy.
 func (p *previous) reuse(f manifest.File, staging string) error {
 	from, to := filepath.Join(p.dir, filepath.FromSlash(f.Path)), filepath.Join(staging, filepath.FromSlash(f.Path))
-	if os.Link(from, to) == nil {
+	if disk.Link(from, to) == nil {
 		return nil
 	}
 	src, err := os.Open(from)

@@ -58,11 +58,13 @@ func (b *build) shardManifest() {
 }
 
 // Merge joins the shard folders of one set into dir: it checks they come
-// from plan's patch and this sinter version, are all the shards of one
-// split and hold every file once with the bytes their manifests record,
-// then writes the set — the files, the mapping and one manifest — exactly
-// as a single render would, replacing dir as Build does.
-func Merge(ctx context.Context, plan *patch.Plan, dir string, shards []string, version string) error {
+// from plan's patch and the sinter version opts.Version, are all the
+// shards of one split and hold every file once with the bytes their
+// manifests record, then writes the set — the files, the mapping and one
+// manifest — exactly as a single render would, replacing dir as Build
+// does, with its lock (opts.NoWait, opts.Notice).
+func Merge(ctx context.Context, plan *patch.Plan, dir string, shards []string, opts Options) error {
+	version := opts.Version
 	notes := plan.Notes
 	files := make([]manifest.File, len(notes))
 	from := make([]string, len(notes))
@@ -89,6 +91,8 @@ func Merge(ctx context.Context, plan *patch.Plan, dir string, shards []string, v
 			return fmt.Errorf("cannot merge %s: it is a whole set, not a shard", shardDir)
 		case m.Patch.SHA256 != plan.PatchSHA256:
 			return fmt.Errorf("cannot merge %s: it was rendered from another patch (or another version of %s)", shardDir, plan.PatchFile)
+		case !sameTuning(m.Patch, manifestPatch(plan)):
+			return fmt.Errorf("cannot merge %s: it was rendered with other scale files than %s names now", shardDir, plan.PatchFile)
 		case m.Sinter != version:
 			return fmt.Errorf("cannot merge %s: it was rendered by sinter %s, this is %s", shardDir, m.Sinter, version)
 		case count != 0 && m.Shard.Count != count:
@@ -117,7 +121,12 @@ func Merge(ctx context.Context, plan *patch.Plan, dir string, shards []string, v
 	if err := checkReplaceable(dir); err != nil {
 		return err
 	}
-	staging, err := newStaging(dir)
+	out, err := claim(ctx, dir, opts)
+	if err != nil {
+		return err
+	}
+	defer out.release()
+	staging, err := out.newStaging()
 	if err != nil {
 		return err
 	}
@@ -140,16 +149,16 @@ func Merge(ctx context.Context, plan *patch.Plan, dir string, shards []string, v
 	}
 	m := &manifest.Manifest{
 		Sinter:    version,
-		Patch:     manifest.Patch{Name: plan.Name, SHA256: plan.PatchSHA256, Includes: includes(plan)},
+		Patch:     manifestPatch(plan),
 		Levelling: plan.Normalize.String(),
 		Mapping:   plan.Name + ".sfz",
 		Files:     files,
 	}
 	err = errors.Join(
-		writeMapping(filepath.Join(staging, m.Mapping), notes, loops, looped, plan.Name),
+		writeMapping(filepath.Join(staging, m.Mapping), plan, loops, looped),
 		writeAtomically(filepath.Join(staging, manifest.FileName), func(w io.Writer) error { return manifest.Write(w, m) }))
 	if err != nil {
 		return err
 	}
-	return swap(staging, dir)
+	return out.swap(staging)
 }

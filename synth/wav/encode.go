@@ -172,7 +172,7 @@ func validate(frames int, opts Options) error {
 	case opts.SampleRate < 1 || int64(opts.SampleRate)*int64(opts.Channels*opts.BitDepth/8) > math.MaxUint32:
 		// The fmt chunk stores the byte rate in 32 bits too.
 		return OptionsError(fmt.Sprintf("sample rate %d Hz out of range (1 to %d for this format)",
-			opts.SampleRate, math.MaxUint32/(opts.Channels*opts.BitDepth/8)))
+			opts.SampleRate, math.MaxUint32/int64(opts.Channels*opts.BitDepth/8)))
 	case frames < 0:
 		return OptionsError(fmt.Sprintf("negative frame count %d", frames))
 	}

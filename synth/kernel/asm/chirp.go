@@ -30,8 +30,9 @@ const (
 	rowRampFrom         // 1 − j/64
 	rowRampTo           // j/64
 	rowRampStep         // 8/64
-	rowTaylor           // the Taylor coefficients of sin, x's first
-	chirpRows    = rowTaylor + taylorTerms
+	rowLowBits          // 2^63 − 1
+	rowFoldAdd          // 2^10 + 1
+	rowTaylor           // the Taylor coefficients of sin, x's first, then 10 more rows
 )
 
 // taylorTerms is the number of odd powers up to x^21.
@@ -72,6 +73,8 @@ func chirpConstants() Mem {
 	row(rowRampFrom, func(j int) uint64 { return math.Float64bits(1 - to(j)) })
 	row(rowRampTo, func(j int) uint64 { return math.Float64bits(to(j)) })
 	row(rowRampStep, bits(float64(lanes)/float64(controlFrames)))
+	row(rowLowBits, same(1<<63-1))
+	row(rowFoldAdd, same(1<<10+1))
 	for k, c := range sineTaylor() {
 		row(rowTaylor+k, bits(c))
 	}
@@ -108,72 +111,97 @@ func chirpKernel(s shape, constants Mem) {
 	RET()
 }
 
-// chirpState is one moving partial's lanes within a span.
+// chirpState is one moving partial's lanes within a span: per part of
+// the lanes its phases, their steps and its gains; growth and slope are
+// the same in every lane.
 type chirpState struct {
-	phase, step, growth, gain, slope reg.VecVirtual
+	phase, step, gain []reg.VecVirtual
+	growth, slope     reg.VecVirtual
 }
 
 // chirpGroup adds one block of the g moving partials at jobs into block.
+// AVX-512 holds all eight lanes in one register; AVX2 holds them in two
+// and takes both through each step in lockstep, so that the processor
+// has two independent chains of the sine's arithmetic to overlap.
 func chirpGroup(s shape, g int, constants Mem, block, jobs reg.Register) {
-	for h := range s.halves() {
-		lane := h * s.width * 8
-		at := func(r int) Mem { return constants.Offset(r*lanes*8 + lane) }
-		Commentf("%d moving partials, lanes %d to %d", g, h*s.width, (h+1)*s.width-1)
-		consts := loadSinConstants(s, at)
-		out, span, spans := GP64(), GP64(), GP64()
-		LEAQ(Mem{Base: block, Disp: lane}, out)
-		MOVQ(jobs, span) // span m's fields are 8·m bytes on from span 0's
-		MOVQ(U32(spansPerBlock), spans)
-		loop := fmt.Sprintf("chirpSpan%d%s%d", g, s.suffix, h)
-		Label(loop)
-		st := make([]chirpState, g)
-		for p := range g {
-			field := func(name string) Mem { return Mem{Base: span, Disp: p*chirpJob.size + chirpJob.field(name)} }
-			c := &st[p]
-			rate, curve := s.vec(), s.vec()
-			VPBROADCASTQ(field("Rate"), rate)
-			VPBROADCASTQ(field("Curve"), curve)
-			Comment("phase = Phase + Rate·j + Curve·j²")
-			c.phase = s.vec()
-			VPBROADCASTQ(field("Phase"), c.phase)
-			VPADDQ(mulLanes(s, rate, at(rowLane)), c.phase, c.phase)
-			VPADDQ(mulLanes(s, curve, at(rowLaneSq)), c.phase, c.phase)
-			Comment("step = 8·Rate + 64·Curve + 16·Curve·j, growing by 128·Curve")
-			c.step, c.growth = s.vec(), s.vec()
-			VPSLLQ(U8(3), rate, c.step)
-			VPSLLQ(U8(6), curve, c.growth)
-			VPADDQ(c.growth, c.step, c.step)
-			VPADDQ(mulLanes(s, curve, at(rowLane16)), c.step, c.step)
-			VPSLLQ(U8(7), curve, c.growth)
-			Comment("the gain ramp across this span")
-			lo, hi := s.vec(), s.vec()
-			VBROADCASTSD(Mem{Base: span, Disp: p*chirpJob.size + chirpJob.field("Levels")}, lo)
-			VBROADCASTSD(Mem{Base: span, Disp: p*chirpJob.size + chirpJob.field("Levels") + 8}, hi)
-			c.gain, c.slope = s.vec(), s.vec()
-			VMULPD(at(rowRampTo), hi, c.gain)
-			VFMADD231PD(at(rowRampFrom), lo, c.gain)
-			VSUBPD(lo, hi, c.slope)
-			VMULPD(at(rowRampStep), c.slope, c.slope)
+	parts := s.halves()
+	// at returns row r of the table for part q.
+	at := func(r, q int) Mem { return constants.Offset(r*lanes*8 + q*s.width*8) }
+	Commentf("%d moving partials, %d lanes at a time", g, s.width)
+	consts := loadSinConstants(s, func(r int) Mem { return at(r, 0) })
+	out, span, spans := GP64(), GP64(), GP64()
+	MOVQ(block, out)
+	MOVQ(jobs, span) // span m's fields are 8·m bytes on from span 0's
+	MOVQ(U32(spansPerBlock), spans)
+	loop := fmt.Sprintf("chirpSpan%d%s", g, s.suffix)
+	Label(loop)
+	st := make([]chirpState, g)
+	for p := range g {
+		field := func(name string) Mem { return Mem{Base: span, Disp: p*chirpJob.size + chirpJob.field(name)} }
+		c := &st[p]
+		rate, curve := s.vec(), s.vec()
+		VPBROADCASTQ(field("Rate"), rate)
+		VPBROADCASTQ(field("Curve"), curve)
+		c.phase, c.step, c.gain = make([]reg.VecVirtual, parts), make([]reg.VecVirtual, parts), make([]reg.VecVirtual, parts)
+		for q := range parts {
+			Comment("phase = Phase + Rate·j + Curve·j²; step = 8·Rate + 64·Curve + 16·Curve·j")
+			c.phase[q] = s.vec()
+			VPBROADCASTQ(field("Phase"), c.phase[q])
+			VPADDQ(mulLanes(s, rate, at(rowLane, q)), c.phase[q], c.phase[q])
+			VPADDQ(mulLanes(s, curve, at(rowLaneSq, q)), c.phase[q], c.phase[q])
+			c.step[q] = s.vec()
+			t := s.vec()
+			VPSLLQ(U8(3), rate, c.step[q])
+			VPSLLQ(U8(6), curve, t)
+			VPADDQ(t, c.step[q], c.step[q])
+			VPADDQ(mulLanes(s, curve, at(rowLane16, q)), c.step[q], c.step[q])
 		}
-		for v := range controlFrames / lanes {
-			acc := s.vec()
-			addr := Mem{Base: out, Disp: v * lanes * 8}
-			VMOVUPD(addr, acc)
-			for p := range g {
-				VFMADD231PD(sinTurn(s, st[p].phase, consts), st[p].gain, acc)
-			}
-			VMOVUPD(acc, addr)
-			for p := range g {
-				VPADDQ(st[p].step, st[p].phase, st[p].phase)
-				VPADDQ(st[p].growth, st[p].step, st[p].step)
-				VADDPD(st[p].slope, st[p].gain, st[p].gain)
-			}
+		Comment("the steps grow by 128·Curve")
+		c.growth = s.vec()
+		VPSLLQ(U8(7), curve, c.growth)
+		Comment("the gain ramp across this span")
+		lo, hi := s.vec(), s.vec()
+		VBROADCASTSD(Mem{Base: span, Disp: p*chirpJob.size + chirpJob.field("From")}, lo)
+		VBROADCASTSD(Mem{Base: span, Disp: p*chirpJob.size + chirpJob.field("To")}, hi)
+		for q := range parts {
+			c.gain[q] = s.vec()
+			VMULPD(at(rowRampTo, q), hi, c.gain[q])
+			VFMADD231PD(at(rowRampFrom, q), lo, c.gain[q])
 		}
-		ADDQ(U32(controlFrames*8), out)
-		ADDQ(U32(8), span)
-		DECQ(spans)
-		JNZ(LabelRef(loop))
+		c.slope = s.vec()
+		VSUBPD(lo, hi, c.slope)
+		VMULPD(at(rowRampStep, 0), c.slope, c.slope)
 	}
+	for v := range controlFrames / lanes {
+		addr := func(q int) Mem { return Mem{Base: out, Disp: v*lanes*8 + q*s.width*8} }
+		// The output is loaded once the first partial's sines are made,
+		// when the registers their arithmetic used are free again.
+		accs := make([]reg.VecVirtual, parts)
+		for p := range g {
+			sines := sinTurns(s, st[p].phase, consts)
+			for q := range parts {
+				if p == 0 {
+					accs[q] = s.vec()
+					VMOVUPD(addr(q), accs[q])
+				}
+				VFMADD231PD(sines[q], st[p].gain[q], accs[q])
+			}
+		}
+		for q := range parts {
+			VMOVUPD(accs[q], addr(q))
+		}
+		for p := range g {
+			for q := range parts {
+				VPADDQ(st[p].step[q], st[p].phase[q], st[p].phase[q])
+				VPADDQ(st[p].growth, st[p].step[q], st[p].step[q])
+				VADDPD(st[p].slope, st[p].gain[q], st[p].gain[q])
+			}
+		}
+	}
+	ADDQ(U32(controlFrames*8), out)
+	ADDQ(U32(8), span)
+	DECQ(spans)
+	JNZ(LabelRef(loop))
 }
 
 // mulLanes returns x times the small per-lane integers at m (each below
@@ -194,17 +222,18 @@ func mulLanes(s shape, x reg.VecVirtual, m Mem) reg.VecVirtual {
 	return r
 }
 
-// chirpConstants are the operands sinTurn reads: registers where the
+// sinConstants are the operands sinTurns reads: registers where the
 // set has enough of them (AVX-512's 32), else the constant table.
 type sinConstants struct {
 	quarter, half, exponent, offset, scale Op
 	taylor                                 [taylorTerms]Op
-	zero                                   reg.VecVirtual // AVX2's |x| needs it
+	// AVX2 folds without a register for half a turn: ½ turn + 2^10 − t
+	// is (t ^ (2^63 − 1)) + 2^10 + 1 for every t in [0, 2^63].
+	lowBits, foldAdd Op
 }
 
-// loadSinConstants loads the constants of sinTurn for the lanes at; with
-// 16 registers only half and zero are kept in registers, the rest are read
-// from the table by each instruction.
+// loadSinConstants loads the constants of sinTurns for the first lanes
+// of the table; AVX2 reads them from the table by each instruction.
 func loadSinConstants(s shape, at func(int) Mem) sinConstants {
 	var c sinConstants
 	keep := func(r int) Op {
@@ -219,44 +248,57 @@ func loadSinConstants(s shape, at func(int) Mem) sinConstants {
 	for k := range c.taylor {
 		c.taylor[k] = keep(rowTaylor + k)
 	}
-	half := s.vec()
-	VMOVUPD(at(rowHalf), half)
-	c.half = half
 	if s.width == 4 {
-		c.zero = s.vec()
-		VPXOR(c.zero, c.zero, c.zero)
+		c.lowBits, c.foldAdd = at(rowLowBits), at(rowFoldAdd)
+	} else {
+		half := s.vec()
+		VMOVUPD(at(rowHalf), half)
+		c.half = half
 	}
 	return c
 }
 
-// sinTurn returns the sine of the phases in x, step for step as
-// kernel.sinTurns computes it.
-func sinTurn(s shape, x reg.VecVirtual, c sinConstants) reg.VecVirtual {
-	t := s.vec()
-	VPSUBQ(c.quarter, x, t)
+// sinTurns returns the sine of the phases in each register of xs, step
+// for step as kernel.sinTurns computes it, the registers taken through
+// each step together.
+func sinTurns(s shape, xs []reg.VecVirtual, c sinConstants) []reg.VecVirtual {
+	n := len(xs)
+	each := func(f func(q int)) {
+		for q := range n {
+			f(q)
+		}
+	}
+
+	t := make([]reg.VecVirtual, n)
+	each(func(q int) { t[q] = s.vec(); VPSUBQ(c.quarter, xs[q], t[q]) })
 	if s.width == 8 {
-		VPABSQ(t, t)
+		each(func(q int) { VPABSQ(t[q], t[q]) })
+		each(func(q int) { VPSUBQ(t[q], c.half, t[q]) })
 	} else {
-		// |t| = (t ^ m) − m with m all ones where t < 0.
-		m := s.vec()
-		VPCMPGTQ(t, c.zero, m)
-		VPXOR(m, t, t)
-		VPSUBQ(m, t, t)
+		// |t| = (t ^ m) − m, m all ones where t < 0: the sign of each
+		// quadword's high half, spread over both halves.
+		each(func(q int) {
+			m := s.vec()
+			VPSRAD(U8(31), t[q], m)
+			VPSHUFD(U8(0xF5), m, m)
+			VPXOR(m, t[q], t[q])
+			VPSUBQ(m, t[q], t[q])
+		})
+		each(func(q int) { VPXOR(c.lowBits, t[q], t[q]) })
+		each(func(q int) { VPADDQ(c.foldAdd, t[q], t[q]) })
 	}
-	VPSUBQ(t, c.half, t)
-	VPSRLQ(U8(11), t, t)
-	VPADDQ(c.exponent, t, t)
-	a := s.vec()
-	VSUBPD(c.offset, t, a)
-	VMULPD(c.scale, a, a)
-	z, p := s.vec(), s.vec()
-	VMULPD(a, a, z)
+	each(func(q int) { VPSRLQ(U8(11), t[q], t[q]) })
+	each(func(q int) { VPADDQ(c.exponent, t[q], t[q]) })
+	each(func(q int) { VSUBPD(c.offset, t[q], t[q]) })
+	each(func(q int) { VMULPD(c.scale, t[q], t[q]) }) // t is now a, in radians
+	z, p := make([]reg.VecVirtual, n), make([]reg.VecVirtual, n)
+	each(func(q int) { z[q] = s.vec(); VMULPD(t[q], t[q], z[q]) })
 	Comment("Horner's rule, from the x^21 term down, as kernel.sinTurns")
-	VMOVUPD(c.taylor[9], p)
-	VFMADD231PD(c.taylor[10], z, p)
+	each(func(q int) { p[q] = s.vec(); VMOVUPD(c.taylor[9], p[q]) })
+	each(func(q int) { VFMADD231PD(c.taylor[10], z[q], p[q]) })
 	for k := 8; k >= 0; k-- {
-		VFMADD213PD(c.taylor[k], z, p)
+		each(func(q int) { VFMADD213PD(c.taylor[k], z[q], p[q]) })
 	}
-	VMULPD(a, p, p)
+	each(func(q int) { VMULPD(t[q], p[q], p[q]) })
 	return p
 }
