@@ -448,14 +448,20 @@ func (res *Result) reference(opts Options) {
 		stiff, sm := fitLaw(slices.Clone(ms), f0, true)
 		law, members := harmonic, hm
 		// The simpler law wins unless the stiff string holds clearly more
-		// of the sound.
-		if energyOf(sm) > 1.01*energyOf(hm) && stiff.B > 0 {
+		// of the sound, on at least three partials: its two parameters
+		// pass through any two exactly, which proves nothing.
+		if energyOf(sm) > 1.01*energyOf(hm) && stiff.B > 0 && len(sm) >= 3 {
 			law, members = stiff, sm
 		}
 		if len(members) >= 2 || len(res.Partials) == 1 {
 			res.Law = law
 			for _, m := range members {
 				res.Partials[m.index].Harmonic = m.n
+			}
+			// The law's fundamental, fitted to each member by its own
+			// error, is finer than the search's, which weighs all alike.
+			if !res.Given {
+				res.Reference = law.F0
 			}
 		}
 	}

@@ -49,13 +49,12 @@ func cents(a, b float64) float64 { return 1200 * math.Log2(a/b) }
 func stiffRatio(n, b float64) float64 { return n * math.Sqrt(1+b*n*n) }
 
 // harmonicNumber is the n whose stiff-string partial lies nearest hz:
-// n² solves B·n⁴ + n² = (hz/f0)².
+// n² solves B·n⁴ + n² = (hz/f0)², written as 2r²/(√(1 + 4B·r²) + 1)
+// rather than the textbook (√(1 + 4B·r²) − 1)/(2B), which cancels to
+// nothing for a B of 1e-17 that a fit of a harmonic series returns.
 func harmonicNumber(hz, f0, b float64) int {
 	r := hz / f0
-	if b <= 0 {
-		return max(1, int(math.Round(r)))
-	}
-	n2 := (math.Sqrt(1+4*b*r*r) - 1) / (2 * b)
+	n2 := 2 * r * r / (math.Sqrt(1+4*max(b, 0)*r*r) + 1)
 	return max(1, int(math.Round(math.Sqrt(n2))))
 }
 
@@ -188,8 +187,12 @@ const pitchTolerance = 15
 // A. M. Noll's harmonic sum spectrum, 1969; from memory): a candidate
 // counts the energy of the strong partials lying within pitchTolerance of
 // its series, and the highest candidate that explains nine tenths of it,
-// with the lowest strong partial among its first three harmonics, is the
-// pitch. ok is false for an unpitched sound.
+// with the lowest strong partial among its first three harmonics and at
+// least every other harmonic up to its highest one strong, is the pitch.
+// That last condition keeps a sound whose one loud partial holds nearly
+// all the energy from taking a subharmonic as its pitch, on the strength
+// of a few far-apart upper partials that the series' two free parameters
+// can always be bent to pass through. ok is false for an unpitched sound.
 func findPitch(strong []member) (f0 float64, ok bool) {
 	total := energyOf(strong)
 	best := 0.0
@@ -199,8 +202,8 @@ func findPitch(strong []member) (f0 float64, ok bool) {
 			if cand < 16 || cand <= best {
 				continue
 			}
-			f, explained, lowest := looseFit(strong, cand)
-			if explained >= 0.9*total && lowest >= 1 && lowest <= 3 && f > best && math.Abs(cents(f, cand)) < 50 {
+			f, explained, lowest, count, highest := looseFit(strong, cand)
+			if explained >= 0.9*total && lowest >= 1 && lowest <= 3 && 2*count >= highest && f > best && math.Abs(cents(f, cand)) < 50 {
 				best = f
 			}
 		}
@@ -211,9 +214,9 @@ func findPitch(strong []member) (f0 float64, ok bool) {
 // looseFit fits a stiff-string series to the partials within
 // pitchTolerance of it, starting from f0 with no stiffness and letting
 // each fit bring in partials higher up; it returns the fundamental, the
-// energy of the partials on the series and the lowest harmonic number
-// among them.
-func looseFit(strong []member, f0 float64) (fit, explained float64, lowest int) {
+// energy of the partials on the series, how many they are and the lowest
+// and highest harmonic numbers among them.
+func looseFit(strong []member, f0 float64) (fit, explained float64, lowest, count, highest int) {
 	b := 0.0
 	on := make([]member, 0, len(strong))
 	for _, reach := range reaches {
@@ -226,7 +229,7 @@ func looseFit(strong []member, f0 float64) (fit, explained float64, lowest int) 
 			}
 		}
 		if len(on) == 0 {
-			return f0, 0, 0
+			return f0, 0, 0, 0, 0
 		}
 		f0, b = fitStiff(on, len(on) >= 3)
 	}
@@ -234,6 +237,7 @@ func looseFit(strong []member, f0 float64) (fit, explained float64, lowest int) 
 		if lowest == 0 || m.n < lowest {
 			lowest = m.n
 		}
+		highest = max(highest, m.n)
 	}
-	return f0, energyOf(on), lowest
+	return f0, energyOf(on), lowest, len(on), highest
 }
