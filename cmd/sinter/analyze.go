@@ -129,9 +129,12 @@ type partialReport struct {
 	T60       float64  `json:"t60_s"`
 	SustainDB *float64 `json:"sustain_db"` // null for none
 	Release   float64  `json:"release_t60_s,omitempty"`
-	Points    int      `json:"points,omitempty"`
-	FitDB     float64  `json:"fit_db"`
-	Phase     float64  `json:"phase_deg"`
+	// ReleaseUnheard: the partial had died away by the note-off, and
+	// Release is the median of the releases heard.
+	ReleaseUnheard bool    `json:"release_unheard,omitempty"`
+	Points         int     `json:"points,omitempty"`
+	FitDB          float64 `json:"fit_db"`
+	Phase          float64 `json:"phase_deg"`
 }
 
 type resynthesisTotal struct {
@@ -281,7 +284,7 @@ func newAnalyzeReport(rec *recording, res *analysis.Result, cmp analysis.Compari
 	for _, p := range res.Partials {
 		e := p.Envelope
 		pr := partialReport{Ratio: p.Ratio, Hz: p.Hz, ErrCents: p.ErrCents, Harmonic: p.Harmonic, LevelDB: p.LevelDB(),
-			Attack: e.Attack, T60: e.Decay, Release: e.Release, Points: len(e.Points), FitDB: e.FitDB, Phase: p.Phase}
+			Attack: e.Attack, T60: e.Decay, Release: e.Release, ReleaseUnheard: p.ReleaseUnheard, Points: len(e.Points), FitDB: e.FitDB, Phase: p.Phase}
 		if len(e.Points) > 0 {
 			pr.Attack, pr.T60 = 0, 0
 		}
@@ -320,6 +323,7 @@ func printAnalysis(w io.Writer, r *analyzeReport) {
 	fmt.Fprintln(w, law)
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
 	fmt.Fprintln(tw, "n\tratio\tHz\t±cents\tlevel dB\tattack s\tT60 s\tsustain dB\trelease s\tfit dB\t")
+	unheard := false
 	for _, p := range r.Partials {
 		n := "-"
 		if p.Harmonic > 0 {
@@ -330,7 +334,11 @@ func printAnalysis(w io.Writer, r *analyzeReport) {
 			sus = fmt.Sprintf("%.2f", *p.SustainDB)
 		}
 		rel := "-"
-		if p.Release > 0 {
+		switch {
+		case p.ReleaseUnheard:
+			rel = fmt.Sprintf("(%.3f)", p.Release)
+			unheard = true
+		case p.Release > 0:
 			rel = fmt.Sprintf("%.3f", p.Release)
 		}
 		attack, t60 := fmt.Sprintf("%.4f", p.Attack), fmt.Sprintf("%.3f", p.T60)
@@ -340,6 +348,9 @@ func printAnalysis(w io.Writer, r *analyzeReport) {
 		fmt.Fprintf(tw, "%s\t%.6f\t%.3f\t%.4f\t%.2f\t%s\t%s\t%s\t%s\t%.2f\t\n", n, p.Ratio, p.Hz, p.ErrCents, p.LevelDB, attack, t60, sus, rel, p.FitDB)
 	}
 	tw.Flush()
+	if unheard {
+		fmt.Fprintln(w, "(release): the partial had died away by the note-off; the median of the releases heard")
+	}
 	if r.Dropped > 0 {
 		fmt.Fprintf(w, "%s above the floor left out (--partials %d)\n", count(r.Dropped, "quieter partial"), len(r.Partials))
 	}

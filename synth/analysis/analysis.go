@@ -102,6 +102,10 @@ type Partial struct {
 	// Close says no window kept its nearest neighbour out of its main
 	// lobe, so its level and envelope are less sure.
 	Close bool
+	// ReleaseUnheard says the partial had fallen into the noise by the
+	// note-off, so no frame shows its release: Envelope.Release is the
+	// median of the releases heard, and any other would sound the same.
+	ReleaseUnheard bool
 	// Times and Levels are its frames: centres in seconds from the
 	// recording's start, levels in dB of full scale.
 	Times, Levels []float64
@@ -235,8 +239,9 @@ func Analyze(x []float64, rate int, opts Options) (*Result, error) {
 		e.Attack = a
 		fits[i].env, fits[i].peakDB, fits[i].cost = d.fitFrom(e, fits[i].peakDB)
 	}
+	unheard := make([]bool, len(fits))
 	if res.Released {
-		unheardReleases(data, fits, noteOff)
+		unheard = unheardReleases(data, fits, noteOff)
 	}
 	for i := range parts {
 		p := &parts[i]
@@ -252,6 +257,7 @@ func Analyze(x []float64, rate int, opts Options) (*Result, error) {
 		out := &res.Partials[i]
 		out.Hz, out.ErrCents = p.hz, 1200/math.Ln2*p.errHz/p.hz
 		out.Level, out.Envelope, out.Close, out.Window = math.Pow(10, peakDB/20), env, p.close, p.win
+		out.ReleaseUnheard = unheard[i]
 		// cos(θ) = sin(θ + π/2): the language's phase is the sine's.
 		out.Phase = math.Mod(math.Mod((onsetPhase+math.Pi/2)*180/math.Pi, 360)+360, 360)
 	}
@@ -262,8 +268,9 @@ func Analyze(x []float64, rate int, opts Options) (*Result, error) {
 // unheardReleases gives the partials that have fallen below the floor by
 // the note-off, whose release no frame shows, the median of the releases
 // the others show: the release is the player's, the same for every
-// partial as far as the recording can tell.
-func unheardReleases(data []*envData, fits []fitted, noteOff float64) {
+// partial as far as the recording can tell. It returns which partials
+// those are; none where no release is heard at all.
+func unheardReleases(data []*envData, fits []fitted, noteOff float64) []bool {
 	var heard []float64
 	unheard := make([]bool, len(fits))
 	for i, f := range fits {
@@ -274,7 +281,7 @@ func unheardReleases(data []*envData, fits []fitted, noteOff float64) {
 		}
 	}
 	if len(heard) == 0 {
-		return
+		return make([]bool, len(fits))
 	}
 	slices.Sort(heard)
 	for i := range fits {
@@ -282,6 +289,7 @@ func unheardReleases(data []*envData, fits []fitted, noteOff float64) {
 			fits[i].env.Release = heard[len(heard)/2]
 		}
 	}
+	return unheard
 }
 
 // firstWindow is the first pass's window: the power of two nearest

@@ -209,7 +209,7 @@ func (res *Result) agreeing(members []int) [][]int {
 	for _, i := range order {
 		placed := false
 		for c := range clusters {
-			if agree(res.Partials[clusters[c][0]].Envelope, res.Partials[i].Envelope) {
+			if agree(&res.Partials[clusters[c][0]], &res.Partials[i]) {
 				clusters[c] = append(clusters[c], i)
 				placed = true
 				break
@@ -229,7 +229,7 @@ func (res *Result) agreeing(members []int) [][]int {
 // agree reports whether two envelopes are the same within the
 // tolerances a rule is held to, twice over (each lies within one
 // tolerance of their mean).
-func agree(a, b Envelope) bool {
+func agree(a, b *Partial) bool {
 	near := func(x, y float64) bool { return math.Abs(x-y) <= 2*max(timeLawShare*max(x, y), timeLawFloor) }
 	sus := func(x, y float64) bool {
 		if x == 0 || y == 0 {
@@ -237,7 +237,10 @@ func agree(a, b Envelope) bool {
 		}
 		return math.Abs(20*math.Log10(x/y)) <= 2*sustainLawDB
 	}
-	return near(a.Attack, b.Attack) && near(a.Decay, b.Decay) && near(a.Release, b.Release) && sus(a.Sustain, b.Sustain)
+	// A release no frame shows agrees with any.
+	release := a.ReleaseUnheard || b.ReleaseUnheard || near(a.Envelope.Release, b.Envelope.Release)
+	return near(a.Envelope.Attack, b.Envelope.Attack) && near(a.Envelope.Decay, b.Envelope.Decay) && release &&
+		sus(a.Envelope.Sustain, b.Envelope.Sustain)
 }
 
 // fitsOneGroup reports whether one group with a rule for each envelope
@@ -333,11 +336,16 @@ func (res *Result) envelopeLaws(members []int, x []float64) (envelopeRules, bool
 		}
 		return v
 	}
+	// Releases no frame shows hold a rule to nothing.
+	unheard := make([]bool, len(members))
+	for k, i := range members {
+		unheard[k] = res.Partials[i].ReleaseUnheard
+	}
 	var r envelopeRules
 	var ok [4]bool
-	r.attack, ok[0] = timeLaw(x, get(func(e Envelope) float64 { return e.Attack }))
-	r.decay, ok[1] = timeLaw(x, get(func(e Envelope) float64 { return e.Decay }))
-	r.release, ok[2] = timeLaw(x, get(func(e Envelope) float64 { return releaseOf(e) }))
+	r.attack, ok[0] = timeLaw(x, get(func(e Envelope) float64 { return e.Attack }), nil)
+	r.decay, ok[1] = timeLaw(x, get(func(e Envelope) float64 { return e.Decay }), nil)
+	r.release, ok[2] = timeLaw(x, get(func(e Envelope) float64 { return releaseOf(e) }), unheard)
 	r.sustain, ok[3] = sustainLaw(x, get(func(e Envelope) float64 { return e.Sustain }))
 	return r, ok[0] && ok[1] && ok[2] && ok[3]
 }
@@ -352,24 +360,38 @@ func releaseOf(e Envelope) float64 {
 }
 
 // timeLaw finds t = a + b·x^p, or a constant, holding every time within
-// timeLawShare (or timeLawFloor) and writes it as an expression.
-func timeLaw(x, t []float64) (string, bool) {
+// timeLawShare (or timeLawFloor) and writes it as an expression. Times
+// marked free (a release no frame shows) hold the rule to nothing but a
+// time the language takes, above 0 and at most 600 s.
+func timeLaw(x, t []float64, free []bool) (string, bool) {
+	all := x
+	var hx, ht []float64 // the times held
+	for k := range x {
+		if free == nil || !free[k] {
+			hx, ht = append(hx, x[k]), append(ht, t[k])
+		}
+	}
+	if len(hx) == 0 {
+		hx, ht = x, t // all alike as far as the recording tells: their mean
+	}
 	within := func(f func(float64) float64) bool {
-		for k := range x {
-			if math.Abs(f(x[k])-t[k]) > max(timeLawShare*t[k], timeLawFloor) {
+		for k := range hx {
+			if math.Abs(f(hx[k])-ht[k]) > max(timeLawShare*ht[k], timeLawFloor) {
+				return false
+			}
+		}
+		for _, v := range all {
+			if y := f(v); !(y > 0 && y <= 600) {
 				return false
 			}
 		}
 		return true
 	}
-	mean := 0.0
-	for _, v := range t {
-		mean += v / float64(len(t))
-	}
-	c := round(mean, 4)
+	c := round(mean(ht), 4)
 	if within(func(float64) float64 { return c }) {
 		return fmtNum(c, 4), true
 	}
+	x, t = hx, ht // the fits below see only the times held
 	// Least squares for a and b at each exponent p on a grid of 0.05,
 	// the written coefficients rounded and checked again. A rule must
 	// have fewer settings than the partials it holds, by two, or it
@@ -690,7 +712,10 @@ func (res *Result) groupComment(g group, parts []*Partial, out patch.DraftGroup)
 			env = fmt.Sprintf("%d points", len(e.Points))
 		}
 		rel := "release not in the recording"
-		if e.Release > 0 {
+		switch {
+		case p.ReleaseUnheard:
+			rel = "release unheard (died away before the note-off)"
+		case e.Release > 0:
 			rel = fmt.Sprintf("release T60 %.3f s", e.Release)
 		}
 		lines = append(lines, fmt.Sprintf("  %9.3f Hz ±%.4f c, ratio %.6f, %.2f dBFS, %s, %s, phase %.0f°, fit %.2f dB",

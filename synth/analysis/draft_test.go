@@ -33,7 +33,7 @@ func TestRules(t *testing.T) {
 		{"falling with an offset", apply(func(x float64) float64 { return 0.6 - 0.1*math.Sqrt(x) }), "0.6 - 0.1*n^0.5"},
 		{"no rule", []float64{0.3, 0.9, 0.2, 0.7, 0.1, 0.5}, ""},
 	} {
-		got, ok := timeLaw(n, c.t)
+		got, ok := timeLaw(n, c.t, nil)
 		if got != c.want || ok != (c.want != "") {
 			t.Errorf("%s: %q, %v; want %q", c.name, got, ok, c.want)
 			continue
@@ -55,6 +55,18 @@ func TestRules(t *testing.T) {
 				t.Errorf("%s: harmonic %d decays in %v by the rule %q, measured %v", c.name, k+1, d, got, c.t[k])
 			}
 		}
+	}
+	// Releases no frame shows (the partials had died away by the
+	// note-off, written as the median heard) hold the rule to nothing;
+	// counted as measured, they break it.
+	heard := apply(func(x float64) float64 { return 1.5 / x })
+	heard[4], heard[5] = 0.75, 0.75
+	unheard := []bool{false, false, false, false, true, true}
+	if got, ok := timeLaw(n, heard, unheard); got != "1.5/n" || !ok {
+		t.Errorf("releases, two unheard: %q, %v; want \"1.5/n\"", got, ok)
+	}
+	if got, ok := timeLaw(n, heard, nil); ok {
+		t.Errorf("releases, the unheard counted: %q; want no rule", got)
 	}
 	if got, ok := dbLaw(n, apply(func(x float64) float64 { return -6 - 6.0206*math.Log2(x) }), levelLawDB); got != "-6 - 6.021*log2(n) dB" || !ok {
 		t.Errorf("1/n levels: %q, %v", got, ok)
