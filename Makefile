@@ -21,6 +21,7 @@ demo: build
 		./bin/sinter render $$p -o out/$$n || exit 1; \
 		./bin/sinter verify out/$$n || exit 1; \
 	done
+	./bin/sinter analyze examples/recordings/dulcimer-d4.wav -o out/dulcimer-d4.yaml --plot out/dulcimer-d4.png
 
 # Every test, the committed assembly checked against its generator, then a
 # short bounded run of each fuzz target. The review page's tests run in

@@ -45,9 +45,13 @@ var commands = []commandDoc{
 		about:   "Serve the set's folder DIR, with its review page, on 127.0.0.1 until\nCtrl-C, read only, and print the address to open.",
 		example: "sinter serve out/harbor-glass --port 8410"},
 	{name: "plot",
-		usage:   "sinter plot PATCH.yaml [--key C4] [--velocity V] [-o FILE.png] [--width W] [--height H]",
-		about:   "Draw one note as a PNG, on its file's scale: its spectrum after the\nband limit, the levels of its loudest partials with the note-off and\nthe loop marked, and one period of its waveform.",
+		usage:   "sinter plot PATCH.yaml [--key C4] [--velocity V] [-o FILE.png] [--width W] [--height H]\n  sinter plot RECORDING.wav [--key NOTE] [-o FILE.png] [--width W] [--height H]",
+		about:   "Draw one note as a PNG, on its file's scale: its spectrum after the\nband limit, the levels of its loudest partials with the note-off and\nthe loop marked, and one period of its waveform. Given a recording,\ndraw its spectrogram with the partials analyze measures laid over it,\nbeside the spectrogram of the patch analyze would write.",
 		example: "sinter plot harbor-glass.yaml --key C4 --velocity 110 -o c4.png"},
+	{name: "analyze", json: true,
+		usage:   "sinter analyze RECORDING.wav [-o PATCH.yaml] [--key NOTE | --f0 HZ] [--partials N] [--floor DB] [--channel left|right|sum] [--json] [--plot FILE.png]",
+		about:   "Measure a recorded tone and write it as a patch: its pitch, its\npartials, the law their frequencies follow and each one's envelope,\nrendered back and compared with the recording. Reads 8- to 32-bit PCM\nand 32- or 64-bit float WAV, mono or stereo, 8 to 384 kHz.",
+		example: "sinter analyze glass-bowl.wav -o glass-bowl.yaml --plot glass-bowl.png"},
 	{name: "init",
 		usage:   "sinter init NAME",
 		about:   "Write NAME.yaml, a starter patch that renders as it is, and\nsinter.schema.json beside it unless one is there.",
@@ -63,13 +67,13 @@ var commands = []commandDoc{
 }
 
 const (
-	jsonHelp = `--json (render, check and merge) prints one JSON document on stdout:
+	jsonHelp = `--json (render, check, merge and analyze) prints one JSON document on stdout:
 {"ok": true, "result": ...}, or {"ok": false, "errors": [{"file", "line",
 "column", "path", "message"}]}, with the exit status the command has
 without it.`
 	keysHelp = `LIST (render and check) is a comma-separated list of keys and ranges:
 C4,E4 or 60-72 or C4-C5.`
-	exitHelp = "Exit status: 0 success, 1 rendering or writing failed (no room, or\nDIR busy with --no-wait), 2 usage or patch error."
+	exitHelp = "Exit status: 0 success, 1 rendering or writing failed (no room, or\nDIR busy with --no-wait), 2 usage, patch or recording error."
 	// versionHelp is the overview's entry for --version, which is no
 	// command of the table.
 	versionHelp = `  sinter --version

@@ -62,7 +62,7 @@ func run(args []string, stdout, stderr io.Writer) int {
 // commandRuns are the commands by name, each given its arguments.
 var commandRuns = map[string]func(args []string, stdout, stderr io.Writer) int{
 	"render": render, "check": check, "verify": verify, "plot": plotNote,
-	"init": initPatch, "merge": merge, "schema": schema, "page": writePage, "serve": serve,
+	"init": initPatch, "merge": merge, "schema": schema, "page": writePage, "serve": serve, "analyze": analyze,
 }
 
 func schema(args []string, stdout, stderr io.Writer) int {

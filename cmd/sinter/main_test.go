@@ -602,6 +602,7 @@ func TestCommandHelp(t *testing.T) {
 		{"plot", []string{"--key C4", "--velocity V", "-o FILE.png", "--width W", "--height H"}, false, false},
 		{"init", nil, false, false},
 		{"schema", nil, false, false},
+		{"analyze", []string{"-o PATCH.yaml", "--key NOTE", "--f0 HZ", "--partials N", "--floor DB", "--channel left", "--json", "--plot FILE.png"}, true, false},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
@@ -622,7 +623,7 @@ func TestCommandHelp(t *testing.T) {
 					t.Errorf("flag %q not listed:\n%s", f, viaHelp)
 				}
 			}
-			if got := strings.Contains(viaHelp, "--json (render, check and merge)"); got != c.json {
+			if got := strings.Contains(viaHelp, "--json (render, check, merge and analyze)"); got != c.json {
 				t.Errorf("the --json paragraph there: %v, want %v", got, c.json)
 			}
 			if got := strings.Contains(viaHelp, "LIST (render and check) is"); got != c.keys {
@@ -644,7 +645,7 @@ func TestCommandHelp(t *testing.T) {
 			t.Errorf("the overview lacks %s", c.name)
 		}
 	}
-	if strings.Count(overview, "--json (render, check and merge) prints") != 1 || !strings.Contains(overview, "sinter help COMMAND") {
+	if strings.Count(overview, "--json (render, check, merge and analyze) prints") != 1 || !strings.Contains(overview, "sinter help COMMAND") {
 		t.Errorf("overview:\n%s", overview)
 	}
 }

@@ -2,6 +2,7 @@ package main
 
 import (
 	"context"
+	"errors"
 	"flag"
 	"fmt"
 	"io"
@@ -11,9 +12,11 @@ import (
 	"path/filepath"
 	"runtime"
 	"slices"
+	"strings"
 	"syscall"
 
 	"sinter/patch"
+	"sinter/synth/analysis"
 	"sinter/synth/chart"
 	"sinter/synth/sampleset"
 )
@@ -30,6 +33,12 @@ func plotNote(args []string, stdout, stderr io.Writer) int {
 		return code
 	}
 	out := reporter{stdout: stdout, stderr: stderr, command: "plot"}
+	if strings.EqualFold(filepath.Ext(path), ".wav") {
+		if given(fs, "velocity") {
+			return out.fail(exitUsage, errors.New("--velocity draws a layer of a patch; a recording has one"))
+		}
+		return plotRecording(out, path, *keyName, *outFile, *width, *height)
+	}
 	p, err := patch.Load(path)
 	if err != nil {
 		return out.fail(exitUsage, err)
@@ -76,6 +85,43 @@ func plotNote(args []string, stdout, stderr io.Writer) int {
 		return out.fail(exitFailure, err)
 	}
 	fmt.Fprintf(stdout, "drew %s, velocity %d, at its levelling gain of %+.2f dB, into %s\n", patch.NoteName(key), note.Velocity, 20*math.Log10(gain), file)
+	return exitOK
+}
+
+// plotRecording draws a recording's spectrogram with the partials analyze
+// measures in it, beside the spectrogram of the patch analyze would
+// write, rendered at the recording's key; it writes no patch.
+func plotRecording(out reporter, path, keyName, file string, width, height int) int {
+	opts, err := analysisOptions(keyName, 0, analysis.DefaultPartials, analysis.DefaultFloorDB)
+	if err != nil {
+		return out.fail(exitUsage, err)
+	}
+	rec, err := readRecording(path, "sum")
+	if err != nil {
+		return out.fail(exitUsage, err)
+	}
+	res, err := analysis.Analyze(rec.samples, rec.audio.Info.SampleRate, opts)
+	if err != nil {
+		return out.fail(exitUsage, fmt.Errorf("%s: %w", path, err))
+	}
+	draft := res.Draft(patchName(path), analysis.Recording{Name: filepath.Base(path), SHA256: rec.sha256, Channel: rec.channel})
+	render, _, err := res.Resynthesis(draft)
+	if err != nil {
+		return out.fail(exitFailure, err)
+	}
+	if file == "" {
+		file = strings.TrimSuffix(path, filepath.Ext(path)) + ".png"
+	}
+	if width == 1200 && height == 1500 {
+		// The defaults suit the patch picture's three stacked panels;
+		// two spectrograms side by side want a wide picture.
+		width, height = 1600, 700
+	}
+	if err := drawAnalysis(file, rec, res, render, width, height); err != nil {
+		return out.fail(exitFailure, err)
+	}
+	fmt.Fprintf(out.stdout, "drew %s: %s, %s, beside the patch analyze writes rendered at %s, into %s\n",
+		path, count(len(res.Partials), "partial"), res.PitchText(), patch.NoteName(res.Key), file)
 	return exitOK
 }
 

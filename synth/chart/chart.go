@@ -35,12 +35,18 @@ type Options struct {
 // WriteFile draws note n into the PNG file path through a temporary
 // name, so a failed drawing leaves no half picture.
 func WriteFile(path string, n *patch.Note, opts Options) error {
+	return writePNG(path, func(w io.Writer) error { return Write(w, n, opts) })
+}
+
+// writePNG writes a picture drawn by draw into path through a temporary
+// name, which it removes if drawing or writing fails.
+func writePNG(path string, draw func(io.Writer) error) error {
 	tmp := path + ".partial"
 	f, err := os.Create(tmp)
 	if err != nil {
 		return fmt.Errorf("cannot create %s: %w", tmp, err)
 	}
-	err = errors.Join(Write(f, n, opts), f.Close())
+	err = errors.Join(draw(f), f.Close())
 	if err == nil {
 		err = os.Rename(tmp, path)
 	}
