@@ -601,9 +601,7 @@ func writeMapping(path string, plan *patch.Plan, loops []synth.Loop, looped []bo
 		regions = append(regions, noteRegions(&n, plan.Tuning, mapping.Region{Sample: n.File, Root: n.Key, LowKey: n.KeyLow, HighKey: n.KeyHigh, LowVel: n.VelLow, HighVel: n.VelHigh,
 			Looped: looped[i], LoopStart: loops[i].Start, LoopEnd: loops[i].End,
 			SeqPosition: n.Variation + 1, SeqLength: n.Variations})...)
-		for _, p := range n.Partials {
-			release = max(release, p.Envelope.Release)
-		}
+		release = max(release, n.LongestRelease())
 	}
 	return writeAtomically(path, func(w io.Writer) error {
 		return mapping.WriteSFZ(w, regions, mapping.Options{Title: plan.Name + ", rendered by sinter", Release: release})
