@@ -116,13 +116,13 @@ func (r *Renderer) addNoise(n *patch.Note, period int, targets ...noiseTarget) S
 		a := &r.voices[i]
 		if i+1 == len(r.voices) {
 			r.noiseMaker.Periods(x, nil, n.SampleRate, &a.noise, nil)
-			stats.add(r.addVoice(a, x, targets))
+			stats.Add(r.addVoice(a, x, targets))
 			continue
 		}
 		b := &r.voices[i+1]
 		r.noiseMaker.Periods(x, y, n.SampleRate, &a.noise, &b.noise)
-		stats.add(r.addVoice(a, x, targets))
-		stats.add(r.addVoice(b, y, targets))
+		stats.Add(r.addVoice(a, x, targets))
+		stats.Add(r.addVoice(b, y, targets))
 	}
 	return stats
 }

@@ -169,7 +169,7 @@ func (r *Renderer) RenderLooped(dst []float64, n *patch.Note, loop Loop) Stats {
 	period := NoisePeriod(n, loop)
 	stats := r.renderFrom(dst, n, 0)
 	if loop.Crossfade == 0 {
-		stats.add(r.addNoise(n, period, noiseTarget{dst, n, 0}))
+		stats.Add(r.addNoise(n, period, noiseTarget{dst, n, 0}))
 		return stats
 	}
 	ch := n.Channels
@@ -178,10 +178,10 @@ func (r *Renderer) RenderLooped(dst []float64, n *patch.Note, loop Loop) Stats {
 		r.continuation = make([]float64, Frames(&cont))
 	}
 	after := r.continuation[:Frames(&cont)]
-	stats.add(r.renderFrom(after, &cont, loop.Start))
+	stats.Add(r.renderFrom(after, &cont, loop.Start))
 	// The continuation's noise is the same periodic noise: each period is
 	// made once for both.
-	stats.add(r.addNoise(n, period, noiseTarget{dst, n, 0}, noiseTarget{after, &cont, loop.Start}))
+	stats.Add(r.addNoise(n, period, noiseTarget{dst, n, 0}, noiseTarget{after, &cont, loop.Start}))
 
 	x := loop.Crossfade
 	fadeOut, fadeIn := (loop.End-x+1)*ch, (loop.Start-x)*ch
@@ -219,7 +219,7 @@ func WorkLooped(n *patch.Note, loop Loop) Stats {
 		return stats
 	}
 	cont := continuation(n, loop)
-	stats.add(workFrom(&cont, loop.Start, period))
+	stats.Add(workFrom(&cont, loop.Start, period))
 	return stats
 }
 

@@ -45,8 +45,8 @@ type Stats struct {
 	NoiseSamples, NoiseNominal int64
 }
 
-// add adds the work o to s.
-func (s *Stats) add(o Stats) {
+// Add adds the work o to s.
+func (s *Stats) Add(o Stats) {
 	s.PartialSamples += o.PartialSamples
 	s.Nominal += o.Nominal
 	s.NoiseSamples += o.NoiseSamples
@@ -147,7 +147,7 @@ func Frames(n *patch.Note) int { return n.Frames * n.Channels }
 // if it had no loop: RenderLooped renders it with its loop.
 func (r *Renderer) Render(dst []float64, n *patch.Note) Stats {
 	stats := r.renderFrom(dst, n, 0)
-	stats.add(r.addNoise(n, NoisePeriod(n, Loop{}), noiseTarget{dst, n, 0}))
+	stats.Add(r.addNoise(n, NoisePeriod(n, Loop{}), noiseTarget{dst, n, 0}))
 	return stats
 }
 
@@ -181,7 +181,7 @@ func (r *Renderer) renderFrom(dst []float64, n *patch.Note, from int) Stats {
 		r.channelNote = *n
 		r.channelNote.Partials = part.partials
 		clear(mono)
-		stats.add(r.renderMono(mono, &r.channelNote, first))
+		stats.Add(r.renderMono(mono, &r.channelNote, first))
 		if pass == 0 {
 			for i, v := range mono {
 				dst[2*i] += v

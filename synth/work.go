@@ -22,7 +22,7 @@ func workFrom(n *patch.Note, from, period int) Stats {
 	first := from / BlockFrames * BlockFrames
 	stats := noiseWork(n, period, first)
 	if n.Channels == 1 {
-		stats.add(workOf(n.Partials, n, first))
+		stats.Add(workOf(n.Partials, n, first))
 		return stats
 	}
 	passes, _ := stereoPasses(nil, n)

@@ -85,7 +85,7 @@ func (s Stage) String() string {
 type Result struct {
 	Dir      string
 	Manifest *manifest.Manifest
-	// Stats is the oscillator work of one render of every note rendered;
+	// Stats is the work of one render of every note rendered;
 	// Again that of the notes rendered a second time (see Rerendered).
 	Stats, Again synth.Stats
 	// Rerendered counts the notes rendered a second time because their
@@ -228,8 +228,7 @@ func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error)
 		return nil, err
 	}
 	for i, s := range b.stats {
-		res.Stats.PartialSamples += s.PartialSamples
-		res.Stats.Nominal += s.Nominal
+		res.Stats.Add(s)
 		if b.rendered[i] {
 			res.Rendered++
 		}
@@ -360,8 +359,7 @@ func (b *build) twoPasses(ctx context.Context, res *Result) error {
 	for i, r := range rerendered {
 		if r {
 			res.Rerendered++
-			res.Again.PartialSamples += again[i].PartialSamples
-			res.Again.Nominal += again[i].Nominal
+			res.Again.Add(again[i])
 		}
 	}
 	return kept.remove()
