@@ -116,9 +116,11 @@ var spillPartials = func() int64 {
 }
 
 // dense reports whether a note whose render did the work stats is kept on
-// disk between the passes.
+// disk between the passes. A note with noise bands always is: making a
+// band's noise costs some 20 ns a sample of it (its transform, measured
+// by synth's BenchmarkNoise), several times writing and reading it back.
 func dense(stats synth.Stats, n *patch.Note) bool {
-	return stats.PartialSamples >= spillPartials()*int64(n.Frames)
+	return stats.NoiseSamples > 0 || stats.PartialSamples >= spillPartials()*int64(n.Frames)
 }
 
 // Build renders plan into plan.OutputDir.
