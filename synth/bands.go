@@ -18,8 +18,8 @@ import (
 
 // MaxNoisePeriod is the longest noise period of a note without a loop, in
 // samples (21.8 s at 48 kHz): a longer note repeats its noise after that
-// many samples, which keeps the memory a band takes within about 80 bytes
-// a sample of it.
+// many samples, which keeps the memory making a band takes, under 100
+// bytes a sample of its period, within about 100 MB.
 const MaxNoisePeriod = 1 << 20
 
 // NoisePeriod is how many samples the noise of note n repeats after,
