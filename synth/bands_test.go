@@ -253,14 +253,18 @@ func TestNoiseChannelsAndRoundRobins(t *testing.T) {
 				}
 			}
 			for v := range 2 {
-				if got := correlation(channels[v][0], channels[v][1]); math.Abs(got-c.want) > c.tol {
+				got := correlation(channels[v][0], channels[v][1])
+				if math.Abs(got-c.want) > c.tol {
 					t.Errorf("variation %d: left and right correlate by %.4f, want %g ± %g", v+1, got, c.want, c.tol)
 				}
+				t.Logf("variation %d: left and right correlate by %+.4f", v+1, got)
 			}
 			for ch := range 2 {
-				if got := correlation(channels[0][ch], channels[1][ch]); math.Abs(got) > 0.05 {
+				got := correlation(channels[0][ch], channels[1][ch])
+				if math.Abs(got) > 0.05 {
 					t.Errorf("channel %d: the two round robins correlate by %.4f", ch, got)
 				}
+				t.Logf("channel %d: the round robins correlate by %+.4f", ch, got)
 			}
 		})
 	}

@@ -82,6 +82,9 @@ func TestSpillEstimateIsWhatIsKept(t *testing.T) {
 	}
 }
 
+// spillCase builds the set of one scope and group for
+// TestSpillEstimateIsWhatIsKept and compares the bytes kept with the
+// estimate.
 func spillCase(t *testing.T, scope, name, group string) {
 	plan := expand(t, fmt.Sprintf(`name: spill
 sample_rate: 22050
