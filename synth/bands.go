@@ -9,10 +9,10 @@ import (
 
 // A note's noise bands are made by package noise, one period of each
 // channel's noise at a time, and added here under their envelopes. The
-// noise repeats with a period that does not depend on the note's partials
-// or on the processor: a looped note's loop, so that its noise repeats
-// exactly over the loop, and otherwise the note's length rounded up to a
-// length the FFT takes fast. The work is plain Go, the same on every
+// noise repeats with a period that depends on the note and its loop
+// alone: the loop's length, which PlanLoop chose from the partials, so
+// that the noise repeats exactly over the loop, and otherwise the note's
+// length rounded up to a length the FFT takes fast. The work is plain Go, the same on every
 // kernel, added after the partials, so a note renders to the same bits on
 // every processor.
 
