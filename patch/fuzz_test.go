@@ -41,6 +41,7 @@ output: {dir: renders}
 	"name: x\nkeys: [&k C4, *k]\npartials:\n  - &g {ratio: 1}\n  - {<<: [*g, *g]}\n  - &s {<<: *s, ratio: 2}\n",
 	"name: x\npartials:\n  - {harmonics: 4, amplitude: 1/(n-1), envelope: {sustain: 1.5, attack: -1}}\n",
 	"name: bells\nchannels: 2\nbody: [[300, 0], [2500, 9]]\npartials:\n  - {modes: bar, count: 4, detune: 3, unison: {voices: 3, spread: 12}, pan: {rule: ratio, width: 0.7}}\n  - {spectrum: square, count: 9, stiffness: \"1e-4*key\", tilt: -3, phase: schroeder}\n  - {ratios: [1, 2.4], amplitudes: [1, -9 dB], phase: random}\n  - {cluster: {count: 6, from: 2, to: 9}, pan: -0.3}\n",
+	"name: breath\nchannels: 2\npartials:\n  - {noise: {low: 1.5, high: 6000 Hz, slope: -3, width: 0.4}, amplitude: -18 dB, pan: 0.2}\n  - {noise: {low: 800 Hertz, high: .5}, tilt: 3}\n",
 	"name: x\nvelocities: [40, 90]\nlayer_crossfade: 12\ntuning: {scale: tunings/none.scl, keymap: 4}\npartials: [{ratio: 1}]\n",
 	"",
 	"- a\n- b\n",

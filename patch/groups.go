@@ -2,18 +2,24 @@ package patch
 
 import (
 	"fmt"
+	"regexp"
 	"slices"
+	"strconv"
 	"strings"
 
 	"gopkg.in/yaml.v3"
 )
 
-var groupKeys = []string{"harmonics", "ratio", "ratios", "modes", "spectrum", "cluster",
+var groupKeys = []string{"harmonics", "ratio", "ratios", "modes", "spectrum", "cluster", "noise",
 	"count", "amplitude", "amplitudes", "phase", "envelope", "stiffness", "tilt", "detune", "unison", "pan",
 	"pitch", "vibrato", "drift"}
 
 // groupKinds are the keys of which a group has exactly one.
-var groupKinds = []string{"harmonics", "ratio", "ratios", "modes", "spectrum", "cluster"}
+var groupKinds = []string{"harmonics", "ratio", "ratios", "modes", "spectrum", "cluster", "noise"}
+
+// partialKinds are the group kinds that make partials; the keys that shape
+// partials one by one apply to them alone, not to a noise band.
+var partialKinds = []GroupKind{KindSeries, KindRatio, KindRatios, KindModes, KindSpectrum, KindCluster}
 
 var envelopeKeys = []string{"attack", "decay", "sustain", "release", "curve", "points", "stretch"}
 
@@ -36,6 +42,7 @@ const (
 	KindModes                     // modes: a table of vibration modes
 	KindSpectrum                  // spectrum: a waveform's Fourier series
 	KindCluster                   // cluster: seeded random ratios in a range
+	KindNoise                     // noise: a band of noise
 )
 
 // PhaseRule says how a group's phases are set.
@@ -73,6 +80,43 @@ type Unison struct {
 type Cluster struct {
 	Count    int
 	From, To float64
+}
+
+// NoiseSpec sets a noise group: a band of noise from Low to High whose
+// power spectral density is tilted by Slope dB per octave, and whose two
+// channels in stereo are Width apart: 1 independent, 0 the same.
+type NoiseSpec struct {
+	// File, Line and Column are where the band was written: the patch or
+	// a file it includes.
+	File         string
+	Line, Column int
+	Low, High    Edge
+	Slope        float64
+	Width        float64
+}
+
+// Edge is one edge of a noise band: a ratio to the fundamental, or a
+// frequency in hertz.
+type Edge struct {
+	Value float64
+	Hz    bool // Value is a frequency in hertz rather than a ratio
+}
+
+// At returns the edge's frequency in Hz for a note whose fundamental is
+// f0.
+func (e Edge) At(f0 float64) float64 {
+	if e.Hz {
+		return e.Value
+	}
+	return e.Value * f0
+}
+
+// String writes the edge as a patch does: "1.5" or "800 Hz".
+func (e Edge) String() string {
+	if e.Hz {
+		return fmt.Sprintf("%g Hz", e.Value)
+	}
+	return fmt.Sprintf("%g", e.Value)
 }
 
 // defaultEnvelope is a short click-free attack into full sustain with a
@@ -134,6 +178,9 @@ func (d *decoder) group(item *yaml.Node, path string, defaults EnvelopeSpec) Gro
 		case "cluster":
 			g.Kind = KindCluster
 			d.cluster(v, path, &g)
+		case "noise":
+			g.Kind = KindNoise
+			d.noise(v, path, &g)
 		case "count":
 			g.Count, _ = d.integer(v, path, countRule)
 		case "amplitude":
@@ -183,6 +230,9 @@ func (d *decoder) group(item *yaml.Node, path string, defaults EnvelopeSpec) Gro
 	only("count", KindModes, KindSpectrum)
 	only("amplitudes", KindRatios)
 	only("stiffness", KindSeries, KindSpectrum)
+	for _, key := range []string{"phase", "tilt", "detune", "unison", "pitch", "vibrato", "drift"} {
+		only(key, partialKinds...)
+	}
 	switch g.Kind {
 	case KindModes:
 		table := modeTables[g.Table]
@@ -282,6 +332,63 @@ func (d *decoder) cluster(n *yaml.Node, path string, g *Group) {
 		d.errorf(r, path, "the cluster's range runs from %g down to %g; give from below to", c.From, c.To)
 	}
 	g.Cluster = c
+}
+
+// hzPattern reads a frequency written as text, such as "800 Hz": a decimal
+// number without an exponent, so that the schema can hold its range as a
+// pattern, and the unit.
+var hzPattern = regexp.MustCompile(`^\s*([+-]?(?:[0-9]+\.?[0-9]*|\.[0-9]+))\s*Hz\s*$`)
+
+// noise reads {low, high, slope, width}.
+func (d *decoder) noise(n *yaml.Node, path string, g *Group) {
+	s := NoiseSpec{Width: 1}
+	var low, high bool
+	d.fields(n, path, []string{"low", "high", "slope", "width"}, func(key string, v *yaml.Node, path string) {
+		switch key {
+		case "low":
+			s.Low, low = d.edge(v, path)
+		case "high":
+			s.High, high = d.edge(v, path)
+		case "slope":
+			s.Slope, _ = d.ranged(v, path, noiseSlopeRule)
+		case "width":
+			s.Width, _ = d.ranged(v, path, noiseWidthRule)
+		}
+	})
+	r := d.resolve(n)
+	s.File, s.Line, s.Column = d.file, r.Line, r.Column
+	g.Noise = s
+	if r.Kind != yaml.MappingNode {
+		return
+	}
+	switch {
+	case !hasKey(r, "low") || !hasKey(r, "high"):
+		d.errorf(r, path, "a noise band needs low and high, such as {low: 1.5, high: 6} (ratios to the fundamental) or {low: 800 Hz, high: 4000 Hz}")
+	case low && high && s.Low.Hz == s.High.Hz && s.Low.Value >= s.High.Value:
+		// Edges in different units are compared at each key, by Expand.
+		d.errorf(r, path, "the band runs from %s down to %s; give low below high", s.Low, s.High)
+	}
+}
+
+// edge reads a band edge: a ratio to the fundamental, or a frequency in Hz
+// written as text such as "800 Hz".
+func (d *decoder) edge(n *yaml.Node, path string) (Edge, bool) {
+	r := d.resolve(n)
+	if r.Kind == yaml.ScalarNode && (r.ShortTag() == "!!int" || r.ShortTag() == "!!float") {
+		v, ok := d.ranged(r, path, noiseRatioRule)
+		return Edge{Value: v}, ok
+	}
+	m := hzPattern.FindStringSubmatch(r.Value)
+	if r.Kind != yaml.ScalarNode || r.ShortTag() != "!!str" || m == nil {
+		d.errorf(r, path, "expected a ratio to the fundamental such as 1.5, or a frequency such as \"800 Hz\", found %s", describe(r))
+		return Edge{}, false
+	}
+	v, _ := strconv.ParseFloat(m[1], 64)
+	if v < noiseHzRule.Min || v > noiseHzRule.Max {
+		d.errorf(r, path, "%g Hz is out of range: expected %g..%g Hz", v, noiseHzRule.Min, noiseHzRule.Max)
+		return Edge{}, false
+	}
+	return Edge{Value: v, Hz: true}, true
 }
 
 // unison reads {voices, spread}.

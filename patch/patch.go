@@ -147,6 +147,7 @@ type Group struct {
 	Table        string    // modes: a table of modes.yaml
 	Spectrum     string    // spectrum: sawtooth, square or triangle
 	Cluster      Cluster   // cluster
+	Noise        NoiseSpec // noise
 	Amplitude    Value
 	Amplitudes   []Value // ratios: one gain per ratio, times Amplitude
 	PhaseRule    PhaseRule

@@ -593,7 +593,7 @@ partials:
 partials:
   - {harmonics: 8, ratio: 2}
 `,
-		line: 3, column: 5, path: "partials[0]", msg: "a group needs exactly one of harmonics, ratio, ratios, modes, spectrum, cluster; found harmonics and ratio",
+		line: 3, column: 5, path: "partials[0]", msg: "a group needs exactly one of harmonics, ratio, ratios, modes, spectrum, cluster, noise; found harmonics and ratio",
 	},
 	{
 		name: "group with neither harmonics nor ratio",

@@ -60,7 +60,67 @@ type Note struct {
 	Partials []Partial // the partials below the band limit
 	Dropped  int       // partials removed for reaching the band limit
 	Faded    int       // partials attenuated by the fade below the limit
+	// Noise are the note's noise bands that start below the band limit;
+	// NoiseDropped counts those that do not. Both are left out of the
+	// render key's encoding when empty, so notes without noise key as
+	// they always have.
+	Noise        []NoiseBand `json:",omitempty"`
+	NoiseDropped int         `json:",omitempty"`
 }
+
+// NoiseBand is one band of noise: Amplitude · env(t) · noise(t), where the
+// noise's power spectral density runs from Low to High Hz, tilted by Slope
+// dB per octave, with the power of a sine of amplitude Amplitude (an RMS
+// of Amplitude/√2) before Gain shapes it.
+type NoiseBand struct {
+	Low, High float64 // Hz, Low below High; the band limit clips what lies above it
+	Slope     float64 // dB per octave of the power spectral density
+	Amplitude float64 // linear; may be negative (a sign flip)
+	Envelope  Envelope
+	Group     int     // index in the patch's partials list
+	Pan       float64 // −1 left … 1 right, for stereo files
+	// Width is how far apart the two channels' noise is: 1 independent, 0
+	// the same, between them correlated by 1 − Width.
+	Width float64
+	Seed  uint64 // draws the band's phases
+	// Limit and FadeFrom are the note's band limit and the start of the
+	// fade below it, and Body the patch's spectral envelope, which Gain
+	// applies as the partials get them.
+	Limit, FadeFrom float64
+	Body            []BodyPoint `json:",omitempty"`
+}
+
+// Gain is what the band limit and the body do to the band's amplitude at
+// hz: the body's gain there, times the raised-cosine fade that partials
+// get from 1 at FadeFrom to 0 at Limit, and 0 at and above the limit.
+func (b *NoiseBand) Gain(hz float64) float64 {
+	g := bodyGain(b.Body, hz)
+	switch {
+	case hz >= b.Limit:
+		return 0
+	case hz > b.FadeFrom:
+		g *= 0.5 * (1 + math.Cos(math.Pi*(hz-b.FadeFrom)/(b.Limit-b.FadeFrom)))
+	}
+	return g
+}
+
+// MaxGain is the most Gain reaches anywhere: the body's loudest point, or
+// 1 without a body, since the fade only lowers it.
+func (b *NoiseBand) MaxGain() float64 {
+	if len(b.Body) == 0 {
+		return 1
+	}
+	most := math.Inf(-1)
+	for _, p := range b.Body {
+		most = max(most, p.DB)
+	}
+	return math.Pow(10, most/20)
+}
+
+// Faded reports whether the band reaches into the fade below the band
+// limit; Clipped whether it reaches past the limit, which cuts it off.
+func (b *NoiseBand) Faded() bool   { return b.High > b.FadeFrom }
+func (b *NoiseBand) Clipped() bool { return b.High > b.Limit }
 
 // Partial is one sine: Amplitude · env(t) · sin(2π·Hz·t + Phase).
 type Partial struct {
@@ -242,7 +302,7 @@ func (x *expander) note(n *Note, frames, noteOff int, rate float64) {
 		// The release curves land exactly on zero, so nothing is
 		// heard after the longest one ends.
 		n.TailUntil = p.TailUntil
-		n.Frames = min(frames, noteOff+int(math.Ceil(longestRelease(n.Partials)*rate))+1)
+		n.Frames = min(frames, noteOff+int(math.Ceil(n.LongestRelease()*rate))+1)
 	}
 	x.loop(n)
 }
@@ -257,11 +317,15 @@ func fileName(name string, key, vel, variation, variations int) string {
 	return base
 }
 
-// LongestRelease is the longest release time among partials, in seconds.
-func longestRelease(parts []Partial) float64 {
+// LongestRelease is the longest release time among the note's partials and
+// noise bands, in seconds.
+func (n *Note) LongestRelease() float64 {
 	longest := 0.0
-	for _, p := range parts {
+	for _, p := range n.Partials {
 		longest = max(longest, p.Envelope.Release)
+	}
+	for _, b := range n.Noise {
+		longest = max(longest, b.Envelope.Release)
 	}
 	return longest
 }
@@ -308,6 +372,7 @@ const (
 	seedPhase
 	seedSchroederShift
 	seedDrift
+	seedNoise
 )
 
 // source is one partial of a group before shaping: its number n in the
@@ -389,6 +454,10 @@ func (x *expander) partials(n *Note) {
 	vars[varF0], vars[varKey], vars[varVel] = n.F0, float64(n.Key), float64(n.Velocity)/127
 	for gi := range p.Groups {
 		g := &p.Groups[gi]
+		if g.Kind == KindNoise {
+			x.noiseBand(n, g, gi, vars, limit, fadeStart)
+			continue
+		}
 		srcs := x.sources(g, gi)
 		logLow, logHigh := ratioSpan(srcs)
 		first := len(n.Partials)
@@ -471,6 +540,45 @@ func (x *expander) partials(n *Note) {
 			schroederPhases(n.Partials[first:], n.F0, shift)
 		}
 	}
+}
+
+// noiseBand resolves a noise group for one note. Its expressions see the
+// band's centre, the geometric mean of its edges, as ratio and hz, and n
+// as 1. A band that starts at or above the band limit is dropped.
+func (x *expander) noiseBand(n *Note, g *Group, gi int, vars []float64, limit, fadeStart float64) {
+	spec := g.Noise
+	low, high := spec.Low.At(n.F0), spec.High.At(n.F0)
+	if low >= high {
+		path := fmt.Sprintf("partials[%d].noise", gi)
+		if !x.reported[path] {
+			x.reported[path] = true
+			x.errs = append(x.errs, &Error{File: spec.File, Line: spec.Line, Column: spec.Column, Path: path,
+				Msg: fmt.Sprintf("at key %s (%.2f Hz) the band runs from %s (%.2f Hz) down to %s (%.2f Hz); give low below high at every key",
+					NoteName(n.Key), n.F0, spec.Low, low, spec.High, high)})
+		}
+		return
+	}
+	if low >= limit {
+		n.NoiseDropped++
+		return
+	}
+	centre := math.Sqrt(low * high)
+	vars[varN], vars[varRatio], vars[varHz] = 1, centre/n.F0, centre
+	var shaped Partial
+	ok := x.shape(&shaped, g, source{n: 1, ratio: centre / n.F0, weight: 1}, vars, n)
+	pan := 0.0
+	if g.PanRule == PanValue {
+		ok = x.eval(&pan, g.Pan, vars, n, panRule) && ok
+	} else {
+		pan = x.panByRule(g, gi, source{n: 1, ratio: centre / n.F0}, 0, 0)
+	}
+	if !ok || shaped.Amplitude == 0 {
+		return
+	}
+	n.Noise = append(n.Noise, NoiseBand{Low: low, High: high, Slope: spec.Slope, Amplitude: shaped.Amplitude,
+		Envelope: shaped.Envelope, Group: gi, Pan: pan, Width: spec.Width,
+		Seed:  deriveSeed(n.Seed, seedNoise, uint64(gi)),
+		Limit: limit, FadeFrom: fadeStart, Body: x.patch.Body})
 }
 
 // motion evaluates a group's motion for one partial; nil when it has none.
@@ -626,6 +734,9 @@ func (x *expander) loop(n *Note) {
 		if m := p.Motion; m != nil {
 			settled = max(settled, m.Settled())
 		}
+	}
+	for _, b := range n.Noise {
+		settled = max(settled, b.Envelope.Settled())
 	}
 	req := LoopRequest{Mode: spec.Mode, Crossfade: max(1, int(math.Round(spec.Crossfade*rate))), Exact: spec.Exact}
 	settledFrame := int(math.Ceil(settled * rate))

@@ -17,8 +17,9 @@ type Rule struct {
 	// At names the key: its path from the top of a patch ("sample_rate",
 	// "normalize.peak"), from a partial group ("group.tilt") or from an
 	// envelope ("envelope.attack"); "[]" stands for every entry of a list,
-	// "[0]" and "[1]" for a point's two coordinates. A rule may serve
-	// several keys with the same meaning (every switch, every note).
+	// "[0]" and "[1]" for a point's two coordinates, and a suffix such as
+	// ":Hz" for a second form of the same key. A rule may serve several
+	// keys with the same meaning (every switch, every note).
 	At   string
 	Kind ValueKind
 	// Min and Max bound a number, inclusive; ±Inf where there is no bound.
@@ -57,6 +58,7 @@ const (
 	ValueExpression                  // a number or an expression, in Min..Max for every partial it is evaluated for
 	ValueNote                        // a MIDI key number in Min..Max or a note name such as C4
 	ValueList                        // a list of MinItems..MaxItems entries
+	ValueHertz                       // a frequency written with its unit, such as "800 Hz", in Min..Max
 )
 
 // rules is every Rule, in the order they are declared; newRule adds to it.
@@ -172,6 +174,14 @@ var (
 	vibFadeRule    = newRule(Rule{At: "group.vibrato.fade", Kind: ValueExpression, Min: 0, Max: MaxSeconds, Unit: " s"})
 	driftRateRule  = newRule(Rule{At: "group.drift.rate", Kind: ValueExpression, Min: 0, Max: 100, Unit: " Hz"})
 	driftDepthRule = newRule(Rule{At: "group.drift.depth", Kind: ValueExpression, Min: 0, Max: 1200, Unit: " cents"})
+	// A band edge is a ratio to the fundamental, as a partial's is, or a
+	// frequency in hertz such as "800 Hz": two rules for one key, each
+	// serving low and high. No band limit lies above 192 kHz, half the
+	// highest sample rate.
+	noiseRatioRule = newRule(Rule{At: "group.noise.low", Kind: ValueNumber, Min: 1e-6, Max: 1e6})
+	noiseHzRule    = newRule(Rule{At: "group.noise.low:Hz", Kind: ValueHertz, Min: 1, Max: 200000, Unit: " Hz"})
+	noiseSlopeRule = newRule(Rule{At: "group.noise.slope", Kind: ValueNumber, Min: -60, Max: 60, Unit: " dB/octave"})
+	noiseWidthRule = newRule(Rule{At: "group.noise.width", Kind: ValueNumber, Min: 0, Max: 1})
 )
 
 // An envelope's keys.

@@ -129,6 +129,12 @@ var rangeCases = map[string]rangeCase{
 	"group.vibrato.fade":  {places: []place{group("ratio: 1, vibrato: {fade: %s}")}},
 	"group.drift.rate":    {places: []place{group("ratio: 1, drift: {rate: %s}")}},
 	"group.drift.depth":   {places: []place{group("ratio: 1, drift: {depth: %s}")}},
+	// A band's low edge must lie below its high one, so each end of an
+	// edge's range is tried at the edge that can take it.
+	"group.noise.low":    {places: []place{group("noise: {low: %s, high: 1e6}")}, high: []place{group("noise: {low: 1e-6, high: %s}")}},
+	"group.noise.low:Hz": {places: []place{group("noise: {low: %s, high: 200000 Hz}")}, high: []place{group("noise: {low: 1 Hz, high: %s}")}},
+	"group.noise.slope":  {places: []place{group("noise: {low: 1, high: 2, slope: %s}")}},
+	"group.noise.width":  {places: []place{group("noise: {low: 1, high: 2, width: %s}")}},
 
 	"envelope.attack":      {places: []place{top("envelope: {attack: %s}"), top("envelope: {decay: %s}"), group("ratio: 1, envelope: {release: %s}")}},
 	"envelope.sustain":     {places: []place{top("envelope: {sustain: %s}"), group("ratio: 1, envelope: {sustain: %s}")}},
@@ -204,6 +210,12 @@ func probes(r patch.Rule, c rangeCase) []probe {
 				add(r.Words[0]+"x", false, false)
 			}
 		}
+	case patch.ValueHertz:
+		add(real(r.Min)+" Hz", true, false)
+		add(fmt.Sprintf("%.3f Hz", r.Min-0.001), false, false)
+		add(real(r.Max)+" Hz", true, true)
+		add(fmt.Sprintf("%.3f Hz", r.Max+0.001), false, true)
+		add(real(r.Max/1000)+" kHz", false, true)
 	case patch.ValueInteger, patch.ValueNote:
 		if r.Values != nil {
 			for _, v := range r.Values {

@@ -125,6 +125,9 @@ func (b *schemaBuilder) value(at string) *jsonschema.Schema {
 			desc = "An expression of n, ratio, hz, f0, key and vel, or a level in dB such as \"-6 dB\", checked for every partial."
 		}
 		alts = append(alts, ranged("number", r), text(desc))
+	case patch.ValueHertz:
+		return &jsonschema.Schema{Type: "string", Pattern: hertzPattern(b.t, r),
+			Description: fmt.Sprintf("A frequency such as \"%g Hz\".", 800.0)}
 	case patch.ValueNote:
 		alts = append(alts, ranged("integer", r), &jsonschema.Schema{Type: "string", Pattern: notePattern(b.t, r),
 			Description: "A note name in scientific pitch notation (C4 = MIDI 60), or a MIDI number."})
@@ -223,6 +226,9 @@ func generateSchema(t *testing.T) []byte {
 	panRule.Required = []string{"rule"}
 	cluster := object("count", b.value("group.cluster.count"), "from", b.value("group.cluster.from"), "to", b.value("group.cluster.from"))
 	cluster.Required = []string{"count"}
+	edge := anyOf(described(b.value("group.noise.low"), "A ratio to the fundamental."), b.value("group.noise.low:Hz"))
+	band := object("low", edge, "high", edge, "slope", b.value("group.noise.slope"), "width", b.value("group.noise.width"))
+	band.Required = []string{"low", "high"}
 	group := object(
 		"harmonics", anyOf(b.value("group.harmonics"), object("count", b.value("group.harmonics"),
 			"first", b.value("group.harmonics.first"), "step", b.value("group.harmonics.step"))),
@@ -231,6 +237,7 @@ func generateSchema(t *testing.T) []byte {
 		"modes", b.value("group.modes"),
 		"spectrum", b.value("group.spectrum"),
 		"cluster", cluster,
+		"noise", described(band, "A band of noise from low to high, its power density tilted by slope dB per octave; width sets how far apart its channels are."),
 		"count", b.value("group.count"),
 		"amplitude", anyOf(&jsonschema.Schema{Type: "number"}, amplitude),
 		"amplitudes", b.list("group.amplitudes", anyOf(&jsonschema.Schema{Type: "number"}, amplitude)),
@@ -292,6 +299,17 @@ func levelPattern(t *testing.T, r patch.Rule) string {
 	units := slices.Clone(r.Units)
 	units = append(units, "dB")
 	return `^\s*` + decimalPattern(int(r.Min), int(r.Max)) + `\s*(?:` + strings.Join(units, "|") + `)?\s*$`
+}
+
+// hertzPattern is the pattern of a frequency written as text: a decimal
+// number in the rule's range, then "Hz", as the decoder's own pattern
+// reads it.
+func hertzPattern(t *testing.T, r patch.Rule) string {
+	t.Helper()
+	if r.Min != math.Trunc(r.Min) || r.Max != math.Trunc(r.Max) {
+		t.Fatalf("frequency bounds %g..%g: decimalPattern takes whole numbers", r.Min, r.Max)
+	}
+	return `^\s*` + decimalPattern(int(r.Min), int(r.Max)) + `\s*Hz\s*$`
 }
 
 // decimalPattern matches the decimals lo ≤ x ≤ hi (lo and hi whole) in the

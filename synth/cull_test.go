@@ -59,6 +59,15 @@ func TestWorkMatchesRender(t *testing.T) {
 	swell.Partials = []patch.Partial{{Hz: 330, Amplitude: 0.5, Envelope: patch.Envelope{Stretch: 1, Release: 0.1,
 		Points: []patch.EnvelopePoint{{Time: 0, Level: 1}, {Time: 0.2, Level: 0}, {Time: 2, Level: 0}, {Time: 2.5, Level: 1}}}}}
 	notes = append(notes, swell)
+	// Noise bands: struck (silent after its decay), held, and in stereo
+	// at two widths, one panned hard right, and with a late swell.
+	band := func(pan, width float64, e patch.Envelope) patch.NoiseBand {
+		return patch.NoiseBand{Low: 200, High: 5000, Slope: -3, Amplitude: 0.1, Envelope: e, Pan: pan, Width: width, Seed: 9, Limit: 21600, FadeFrom: 19440}
+	}
+	notes[0].Noise = []patch.NoiseBand{band(0, 1, env(0.001, 0.3, 0, 0.1)), band(0, 1, env(0.01, 0.2, 0.5, 0.3))}
+	notes[1].Noise = []patch.NoiseBand{band(0.3, 1, env(0.001, 0.1, 0, 0.1)), band(1, 0, env(0.01, 0.2, 0.5, 0.3)), band(-0.2, 0.6, env(0.1, 0.1, 0.2, 0.2))}
+	swell.Noise = []patch.NoiseBand{band(0, 1, swell.Partials[0].Envelope)}
+	notes[len(notes)-1] = swell
 	var r synth.Renderer
 	for i := range notes {
 		n := &notes[i]
@@ -69,6 +78,9 @@ func TestWorkMatchesRender(t *testing.T) {
 		}
 		if got.PartialSamples >= got.Nominal {
 			t.Errorf("note %d: nothing skipped (%+v); the case does not test culling", i, got)
+		}
+		if len(n.Noise) > 0 && got.NoiseSamples >= got.NoiseNominal {
+			t.Errorf("note %d: no noise skipped (%+v); the case does not test culling", i, got)
 		}
 	}
 }
@@ -120,6 +132,8 @@ func TestWorkLoopedMatchesRenderLooped(t *testing.T) {
 		{"whole cycles", "hold: 2\ntail: 0.5\nloop: auto\npartials: [{harmonics: 8, envelope: {attack: 0.01, decay: 0.2, sustain: 0.5, release: 0.2}}]"},
 		{"whole cycles, retuned", "hold: 2\ntail: 0.5\nloop: {exact: on}\npartials: [{harmonics: 8}]"},
 		{"no loop", "hold: 1\ntail: auto\npartials: [{harmonics: 8, envelope: {attack: 0.001, decay: \"1/n\", sustain: 0, release: 0.2}}]"},
+		{"noise, crossfade, stereo", "channels: 2\nhold: 2\ntail: 0.5\nloop: {length: 0.6, crossfade: 0.1}\npartials: [{ratio: 1.7}, {noise: {low: 2, high: 9, width: 0.5}, pan: 0.4, envelope: {attack: 0.01, decay: 0.2, sustain: 0.3, release: 0.2}}, {noise: {low: 1, high: 3}, envelope: {decay: 0.1, sustain: 0, release: 0.1}}]"},
+		{"noise, whole cycles", "hold: 2\ntail: 0.5\nloop: auto\npartials: [{harmonics: 4}, {noise: {low: 2, high: 9}}]"},
 	}
 	var r synth.Renderer
 	for _, c := range cases {

@@ -14,7 +14,9 @@ import (
 // to the same files on every processor. The notes cover every envelope
 // segment and both curves, moving partials, corners inside blocks (which
 // take the scalar path), an odd partial count, a last block shorter than
-// BlockFrames, a partial next to the stride-8 worst case and stereo.
+// BlockFrames, a partial next to the stride-8 worst case, stereo, and noise
+// bands (mono; stereo at widths 1 and 0.4, one panned hard left), which
+// are added after the partials in plain Go.
 func TestEveryKernelSameBits(t *testing.T) {
 	env := patch.Envelope{Attack: 0.0123, Decay: 0.31, Sustain: 0.4, Release: 0.77}
 	cases := []struct {
@@ -51,6 +53,12 @@ func TestEveryKernelSameBits(t *testing.T) {
 				pan = float64(h%5)/2 - 1
 			}
 			n.Partials = append(n.Partials, patch.Partial{Hz: hz, Amplitude: 1 / float64(h), Phase: 0.37 * float64(h), Envelope: e, Motion: motion, Pan: pan})
+		}
+		if c.name == "pad" || c.name == "stereo" {
+			for i, width := range []float64{1, 0.4, 1} {
+				n.Noise = append(n.Noise, patch.NoiseBand{Low: 300 * float64(i+1), High: 4000 * float64(i+1), Slope: -3, Amplitude: 0.2,
+					Envelope: env, Pan: float64(i) - 1, Width: width, Seed: uint64(i + 1), Limit: 21600, FadeFrom: 19440})
+			}
 		}
 		want := make([]float64, Frames(n))
 		previous := kernel.Use(kernel.Plain)

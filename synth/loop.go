@@ -148,7 +148,9 @@ func crossfadeLoop(n *patch.Note) Loop {
 }
 
 // RenderLooped renders n like Render, shaped for the sustain loop loop
-// (from PlanLoop). A retuned note is rendered at its retuned pitch. For a
+// (from PlanLoop; the zero Loop for a note without one). A retuned note is
+// rendered at its retuned pitch. Its noise bands repeat with the loop's
+// length, so they repeat exactly over the loop. For a
 // crossfade loop the loop's last Crossfade frames fade, at equal power,
 // into the frames just before Start, so playback flows on from End to
 // Start (see equalPowerGains); the frames after End then continue from Start, so that a sampler
@@ -164,8 +166,10 @@ func (r *Renderer) RenderLooped(dst []float64, n *patch.Note, loop Loop) Stats {
 		r.tunedPartials = r.tuned.Partials
 		n = &r.tuned
 	}
-	stats := r.Render(dst, n)
+	period := NoisePeriod(n, loop)
+	stats := r.renderFrom(dst, n, 0)
 	if loop.Crossfade == 0 {
+		stats.Add(r.addNoise(n, period, noiseTarget{dst, n, 0}))
 		return stats
 	}
 	ch := n.Channels
@@ -174,9 +178,10 @@ func (r *Renderer) RenderLooped(dst []float64, n *patch.Note, loop Loop) Stats {
 		r.continuation = make([]float64, Frames(&cont))
 	}
 	after := r.continuation[:Frames(&cont)]
-	more := r.renderFrom(after, &cont, loop.Start)
-	stats.PartialSamples += more.PartialSamples
-	stats.Nominal += more.Nominal
+	stats.Add(r.renderFrom(after, &cont, loop.Start))
+	// The continuation's noise is the same periodic noise: each period is
+	// made once for both.
+	stats.Add(r.addNoise(n, period, noiseTarget{dst, n, 0}, noiseTarget{after, &cont, loop.Start}))
 
 	x := loop.Crossfade
 	fadeOut, fadeIn := (loop.End-x+1)*ch, (loop.Start-x)*ch
@@ -203,19 +208,18 @@ func continuation(n *patch.Note, loop Loop) patch.Note {
 	return cont
 }
 
-// WorkLooped returns the oscillator work RenderLooped does for n with
-// loop, without rendering: Work's, and after a crossfade loop that of the
-// continuation from the loop's start. Retuning moves no partial's level,
-// so it changes no work.
+// WorkLooped returns the work RenderLooped does for n with loop (the zero
+// Loop for none), without rendering: Work's, with the noise's period the
+// loop's, and after a crossfade loop that of the continuation from the
+// loop's start. Retuning moves no partial's level, so it changes no work.
 func WorkLooped(n *patch.Note, loop Loop) Stats {
-	stats := Work(n)
+	period := NoisePeriod(n, loop)
+	stats := workFrom(n, 0, period)
 	if loop.Crossfade == 0 {
 		return stats
 	}
 	cont := continuation(n, loop)
-	more := workFrom(&cont, loop.Start)
-	stats.PartialSamples += more.PartialSamples
-	stats.Nominal += more.Nominal
+	stats.Add(workFrom(&cont, loop.Start, period))
 	return stats
 }
 

@@ -21,6 +21,7 @@ import (
 
 	"sinter/patch"
 	"sinter/synth/kernel"
+	"sinter/synth/noise"
 )
 
 // BlockFrames is how often, in samples, each oscillator is re-anchored to
@@ -38,6 +39,18 @@ const phaseUnit = 2 * math.Pi / (1 << 64)
 type Stats struct {
 	PartialSamples int64 // oscillator samples computed
 	Nominal        int64 // partials × frames: the work without skipping silence
+	// NoiseSamples are the samples of noise bands added, one for each band
+	// and channel it sounds in; NoiseNominal what they would be without
+	// skipping silence.
+	NoiseSamples, NoiseNominal int64
+}
+
+// Add adds the work o to s.
+func (s *Stats) Add(o Stats) {
+	s.PartialSamples += o.PartialSamples
+	s.Nominal += o.Nominal
+	s.NoiseSamples += o.NoiseSamples
+	s.NoiseNominal += o.NoiseNominal
 }
 
 // oscillator is the per-partial state of one render. The fields every
@@ -117,21 +130,31 @@ type Renderer struct {
 	// Scratch for stereo: the note of one channel pass and its partials.
 	channelNote     patch.Note
 	channelPartials []patch.Partial
+	// Scratch for noise bands (bands.go): what makes their noise, its
+	// voices, a period of two of them and a band's envelope.
+	noiseMaker     noise.Maker
+	voices         []noiseVoice
+	noiseX, noiseY []float64
+	bandSegments   []segment
 }
 
 // Frames returns the length of dst that Render needs for n.
 func Frames(n *patch.Note) int { return n.Frames * n.Channels }
 
 // Render writes note n into dst as interleaved frames at full scale ±1 and
-// before any levelling gain. dst must hold Frames(n) values; it is
-// overwritten.
+// before any levelling gain: its partials, then its noise bands. dst must
+// hold Frames(n) values; it is overwritten. A looped note is rendered as
+// if it had no loop: RenderLooped renders it with its loop.
 func (r *Renderer) Render(dst []float64, n *patch.Note) Stats {
-	return r.renderFrom(dst, n, 0)
+	stats := r.renderFrom(dst, n, 0)
+	stats.Add(r.addNoise(n, NoisePeriod(n, Loop{}), noiseTarget{dst, n, 0}))
+	return stats
 }
 
-// renderFrom is Render from the block holding frame from on; the frames
-// before that block are left at zero. Since every block starts from the
-// exact phase, starting late costs nothing and changes no sample.
+// renderFrom renders n's partials like Render from the block holding frame
+// from on; the frames before that block are left at zero. Since every
+// block starts from the exact phase, starting late costs nothing and
+// changes no sample.
 func (r *Renderer) renderFrom(dst []float64, n *patch.Note, from int) Stats {
 	if len(dst) != Frames(n) {
 		panic("synth: Render destination has the wrong length")
@@ -158,9 +181,7 @@ func (r *Renderer) renderFrom(dst []float64, n *patch.Note, from int) Stats {
 		r.channelNote = *n
 		r.channelNote.Partials = part.partials
 		clear(mono)
-		s := r.renderMono(mono, &r.channelNote, first)
-		stats.PartialSamples += s.PartialSamples
-		stats.Nominal += s.Nominal
+		stats.Add(r.renderMono(mono, &r.channelNote, first))
 		if pass == 0 {
 			for i, v := range mono {
 				dst[2*i] += v

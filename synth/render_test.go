@@ -793,6 +793,10 @@ func TestDeterministic(t *testing.T) {
 	for h := 1; h <= 23; h++ {
 		b.Partials = append(b.Partials, patch.Partial{Hz: 97.3 * float64(h), Amplitude: 0.1, Envelope: patch.Envelope{Attack: 0.3, Decay: 0.1, Sustain: 0.2, Release: 0.05}})
 	}
+	for i, width := range []float64{1, 0.3, 1} {
+		b.Noise = append(b.Noise, patch.NoiseBand{Low: 500, High: 3000 * float64(i+1), Amplitude: 0.05, Envelope: patch.Envelope{Attack: 0.1, Sustain: 1, Release: 0.05},
+			Pan: 0.2 * float64(i), Width: width, Seed: uint64(i), Limit: 19845, FadeFrom: 17860})
+	}
 
 	first := render(a)
 	second := render(a)

@@ -7,22 +7,24 @@ import (
 	"sinter/patch"
 )
 
-// Work returns the oscillator work Render does for n, without rendering:
-// for each partial, the blocks in which it can reach SilenceLevel. For an
-// envelope that never rises again once it has fallen those are a prefix,
-// which a binary search over the blocks finds in a dozen envelope
-// evaluations; other envelopes are checked block by block. WorkLooped
-// adds the continuation RenderLooped renders after a crossfade loop.
-func Work(n *patch.Note) Stats { return workFrom(n, 0) }
+// Work returns the work Render does for n, without rendering: for each
+// partial, and each noise band's channel, the blocks in which it can
+// reach SilenceLevel. For an envelope that never rises again once it has
+// fallen those are a prefix, which a binary search over the blocks finds
+// in a dozen envelope evaluations; other envelopes are checked block by
+// block. WorkLooped counts what RenderLooped does.
+func Work(n *patch.Note) Stats { return WorkLooped(n, Loop{}) }
 
-// workFrom is the work of renderFrom(…, n, from): the blocks from the one
-// holding frame from on.
-func workFrom(n *patch.Note, from int) Stats {
+// workFrom is the work of rendering n from the block holding frame from on,
+// its noise repeating with period: its partials' as renderFrom renders
+// them and its bands' as addNoise adds them.
+func workFrom(n *patch.Note, from, period int) Stats {
 	first := from / BlockFrames * BlockFrames
+	stats := noiseWork(n, period, first)
 	if n.Channels == 1 {
-		return workOf(n.Partials, n, first)
+		stats.Add(workOf(n.Partials, n, first))
+		return stats
 	}
-	var stats Stats
 	passes, _ := stereoPasses(nil, n)
 	for _, pass := range passes {
 		s := workOf(pass.partials, n, first)
@@ -97,6 +99,7 @@ func TimbreCrestFactor(n *patch.Note) float64 {
 	flat.Channels = 1
 	flat.Frames = min(n.Frames, max(1, int(timbreSeconds*float64(n.SampleRate))))
 	flat.NoteOff = flat.Frames
+	flat.Noise = nil // the partials' crest factor, as the phases give it
 	flat.Partials = make([]patch.Partial, len(n.Partials))
 	for i, p := range n.Partials {
 		p.Envelope = patch.Envelope{Sustain: 1, Release: 1}

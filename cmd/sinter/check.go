@@ -62,9 +62,12 @@ type planSummary struct {
 	UpperBounds bool `json:"lengths_are_upper_bounds,omitempty"`
 	// TwoPasses says levelling needs every note measured before the first
 	// is written, so render may render some notes twice.
-	TwoPasses   bool      `json:"two_passes"`
-	OutputDir   string    `json:"output_dir"`
-	Work        work      `json:"partial_samples"`
+	TwoPasses bool   `json:"two_passes"`
+	OutputDir string `json:"output_dir"`
+	Work      work   `json:"partial_samples"`
+	// Noise is the work of the noise bands, counted alike; nil without
+	// any.
+	Noise       *work     `json:"noise_samples,omitempty"`
 	BandLimitHz float64   `json:"band_limit_hz"`
 	BandFadeHz  float64   `json:"band_fade_from_hz"`
 	BandLimit   float64   `json:"band_limit"`
@@ -130,6 +133,9 @@ type work struct {
 	Nominal  int64  `json:"nominal"`
 	Counts   string `json:"counts"`
 	Again    *int64 `json:"second_renders,omitempty"`
+	// noise says the figures count noise-band samples, one for each band
+	// and channel it sounds in, rather than partial-samples.
+	noise bool
 }
 
 // What check's and render's work figures count.
@@ -143,7 +149,20 @@ func (w work) String() string {
 	if w.Nominal > 0 {
 		skipped = 100 * float64(w.Nominal-w.Computed) / float64(w.Nominal)
 	}
-	return fmt.Sprintf("%.3g of %.3g nominal partial-samples (%.1f%% skipped as silent)", float64(w.Computed), float64(w.Nominal), skipped)
+	unit := "partial-samples"
+	if w.noise {
+		unit = "noise-band samples"
+	}
+	return fmt.Sprintf("%.3g of %.3g nominal %s (%.1f%% skipped as silent)", float64(w.Computed), float64(w.Nominal), unit, skipped)
+}
+
+// noiseWork is the noise bands' work in stats as a work, or nil for a set
+// without noise.
+func noiseWork(stats synth.Stats, counts string, again *int64) *work {
+	if stats.NoiseNominal == 0 {
+		return nil
+	}
+	return &work{Computed: stats.NoiseSamples, Nominal: stats.NoiseNominal, Counts: counts, Again: again, noise: true}
 }
 
 // keyPlan is one row of the per-key table; velocity layers and round
@@ -158,6 +177,26 @@ type keyPlan struct {
 	HighestHz float64   `json:"highest_hz"`
 	CrestDB   float64   `json:"crest_factor_db"` // of the partials without envelopes
 	Loop      *loopPlan `json:"loop,omitempty"`
+	// Bands are the key's noise bands, at its first layer; BandsDropped
+	// counts those that start above the band limit.
+	Bands        []bandPlan `json:"noise_bands,omitempty"`
+	BandsDropped int        `json:"noise_bands_dropped,omitempty"`
+}
+
+// bandPlan is one noise band of a key: its edges in Hz, its slope, its
+// level (that of a sine of the same power, before its envelope), the
+// stereo width and position, and what the band limit does to it: kept,
+// faded (it reaches into the fade below the limit) or clipped (it
+// reaches past the limit, which cuts it off there).
+type bandPlan struct {
+	Group     int     `json:"group"`
+	Low       float64 `json:"low_hz"`
+	High      float64 `json:"high_hz"`
+	Slope     float64 `json:"slope_db_per_octave"`
+	LevelDB   float64 `json:"level_db"`
+	Width     float64 `json:"width"`
+	Pan       float64 `json:"pan"`
+	BandLimit string  `json:"band_limit"`
 }
 
 type loopPlan struct {
@@ -188,12 +227,11 @@ func summarize(plan *patch.Plan, p *patch.Patch) planSummary {
 	s.Work.Counts = checkCounts
 	s.LayerCrossfade, s.LayerRanges = p.LayerCrossfade, layers(plan)
 	s.Tuning = tuned(plan, p.A4)
+	var total synth.Stats
 	for i := range plan.Notes {
 		n := &plan.Notes[i]
 		loop, looped := synth.PlanLoop(n)
-		w := synth.WorkLooped(n, loop)
-		s.Work.Computed += w.PartialSamples
-		s.Work.Nominal += w.Nominal
+		total.Add(synth.WorkLooped(n, loop))
 		if i > 0 && plan.Notes[i-1].Key == n.Key {
 			continue
 		}
@@ -212,9 +250,29 @@ func summarize(plan *patch.Plan, p *patch.Patch) planSummary {
 				row.Loop.Kind, row.Loop.RetuneCents = "retuned", loop.Retune
 			}
 		}
+		row.Bands, row.BandsDropped = bands(n), n.NoiseDropped
 		s.PerKey = append(s.PerKey, row)
 	}
+	s.Work.Computed, s.Work.Nominal = total.PartialSamples, total.Nominal
+	s.Noise = noiseWork(total, checkCounts, nil)
 	return s
+}
+
+// bands describes a note's noise bands.
+func bands(n *patch.Note) []bandPlan {
+	var out []bandPlan
+	for _, b := range n.Noise {
+		state := "kept"
+		switch {
+		case b.Clipped():
+			state = "clipped"
+		case b.Faded():
+			state = "faded"
+		}
+		out = append(out, bandPlan{Group: b.Group, Low: b.Low, High: b.High, Slope: b.Slope,
+			LevelDB: math.Round(20*math.Log10(math.Abs(b.Amplitude))*100) / 100, Width: b.Width, Pan: b.Pan, BandLimit: state})
+	}
+	return out
 }
 
 // layers lists the velocity layers as the first key's notes have them.
@@ -304,6 +362,9 @@ func printPlan(w io.Writer, s *planSummary) {
 		fmt.Fprintf(w, "            and up to %d (%.1f MiB) of dense notes kept beside it between the passes: render needs free space for both\n", s.SpillBytes, float64(s.SpillBytes)/(1<<20))
 	}
 	fmt.Fprintf(w, "  work:     to compute %s in one render of each note\n", s.Work)
+	if s.Noise != nil {
+		fmt.Fprintf(w, "            and to add %s\n", s.Noise)
+	}
 	if s.TwoPasses {
 		fmt.Fprintf(w, "            (levelled as a whole, render renders again the notes it keeps no copy of, and reports those apart)\n")
 	}
@@ -333,7 +394,33 @@ func printPlan(w io.Writer, s *planSummary) {
 		fmt.Fprintf(tw, "%s\t%d\t%.2f\t%d\t%d\t%d\t%.0f\t%.1f\t%s\t%s\t%s\t\n", k.Note, k.Key, k.F0, k.Kept, k.Faded, k.Dropped, k.HighestHz, k.CrestDB, loopSpan, kind, cents)
 	}
 	tw.Flush()
+	printBands(w, s.PerKey)
 	printTuning(w, s.Tuning)
+}
+
+// printBands writes each key's noise bands, if any key has one.
+func printBands(w io.Writer, keys []keyPlan) {
+	any := false
+	for _, k := range keys {
+		any = any || len(k.Bands) > 0 || k.BandsDropped > 0
+	}
+	if !any {
+		return
+	}
+	fmt.Fprintln(w, "noise bands (at each key's first layer; level: a sine's of the same power, before the envelope):")
+	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
+	fmt.Fprintln(tw, "key\tgroup\tlow Hz\thigh Hz\tslope dB/oct\tlevel dB\twidth\tpan\tband limit\t")
+	for _, k := range keys {
+		for _, b := range k.Bands {
+			fmt.Fprintf(tw, "%s\t%d\t%.1f\t%.1f\t%+.1f\t%.1f\t%.2f\t%+.2f\t%s\t\n", k.Note, b.Group, b.Low, b.High, b.Slope, b.LevelDB, b.Width, b.Pan, b.BandLimit)
+		}
+	}
+	tw.Flush()
+	for _, k := range keys {
+		if k.BandsDropped > 0 {
+			fmt.Fprintf(w, "  %s: %s dropped, starting at or above the band limit\n", k.Note, count(k.BandsDropped, "band"))
+		}
+	}
 }
 
 // printLayers writes the velocity layers, and their crossfades.

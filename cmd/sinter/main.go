@@ -189,6 +189,7 @@ type renderSummary struct {
 	Levelling    string     `json:"levelling"`
 	Kernel       string     `json:"kernel"`
 	Work         work       `json:"partial_samples"`
+	Noise        *work      `json:"noise_samples,omitempty"`
 	Rendered     int        `json:"notes_rendered"`
 	Kept         int        `json:"files_kept"`
 	Rerendered   int        `json:"notes_rendered_twice"`
@@ -282,6 +283,7 @@ func render(args []string, stdout, stderr io.Writer) int {
 	summary := renderSummary{Patch: plan.PatchFile, OutputDir: res.Dir, Files: len(res.Manifest.Files),
 		Levelling: res.Manifest.Levelling, Kernel: kernel.Active().String(),
 		Work:     work{Computed: res.Stats.PartialSamples, Nominal: res.Stats.Nominal, Counts: renderCounts, Again: &res.Again.PartialSamples},
+		Noise:    noiseWork(res.Stats, renderCounts, &res.Again.NoiseSamples),
 		Rendered: res.Rendered, Kept: res.Reused, Rerendered: res.Rerendered, Warnings: res.Warnings, Leftovers: []leftover{}}
 	for _, l := range res.Removed {
 		summary.Leftovers = append(summary.Leftovers, leftover{Path: l.Path, Freed: l.Bytes, Restored: l.Restored})
@@ -310,6 +312,13 @@ func render(args []string, stdout, stderr io.Writer) int {
 			fmt.Fprintf(stdout, ", and %.3g more to render %s a second time", float64(*summary.Work.Again), count(summary.Rerendered, "note"))
 		}
 		fmt.Fprintln(stdout)
+		if n := summary.Noise; n != nil {
+			fmt.Fprintf(stdout, "added %s", n)
+			if summary.Rerendered > 0 {
+				fmt.Fprintf(stdout, ", and %.3g more in the second renders", float64(*n.Again))
+			}
+			fmt.Fprintln(stdout)
+		}
 	}
 	return exitOK
 }

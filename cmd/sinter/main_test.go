@@ -482,7 +482,8 @@ func TestShardedRenderAndMerge(t *testing.T) {
 // tail kinds into fresh folders, and compares check --json with render
 // --json figure by figure: files, audio seconds and bytes (exact unless
 // tails end by level, when check's are the most render may write), the
-// partial-samples computed and nominal, the levelling and the folder.
+// partial-samples and noise-band samples computed and nominal, the
+// levelling and the folder.
 func TestCheckPlansWhatRenderComputes(t *testing.T) {
 	if testing.Short() {
 		t.Skip("renders several sets")
@@ -495,12 +496,17 @@ func TestCheckPlansWhatRenderComputes(t *testing.T) {
 		{"dust-choir.yaml", "C3"},   // moving partials, unison, crossfade loop
 		{"lantern-comb.yaml", ""},   // scale files: a region per key
 		{"felt-bars.yaml", "C3"},    // layers that cross-fade
+		{"fog-flute.yaml", "C4"},    // noise bands: struck, held, in stereo; whole cycles
 	}
 	inline := map[string]string{
 		"drone.yaml": "name: drone\nkeys: [A2]\nhold: 6\ntail: 1\nloop: {crossfade: 0.2}\npartials: [{ratios: [1, 2.41, 3.7], envelope: {attack: 0.3, decay: 0.2, sustain: 0.7, release: 0.8}}]\n",
 		"cycles.yaml": "name: cycles\nkeys: [C3, G3]\nvelocities: [60, 120]\nhold: 1.5\ntail: 0.5\nloop: auto\nnormalize: {peak: -3 dBFS, scope: file}\n" +
 			"partials: [{harmonics: 16, amplitude: \"vel/n\", envelope: {attack: 0.01, decay: \"0.4/n\", sustain: \"0.5/n\", release: 0.2}}]\n",
 		"plain.yaml": "name: plain\nkeys: [C4]\nround_robin: 2\nhold: 0.5\ntail: 0.5\nnormalize: off\npartials: [{harmonics: 6, envelope: {attack: 0.001, decay: 0.3, sustain: 0, release: 0.1}}]\n",
+		// Noise through a crossfade loop and its continuation, and a tail
+		// that ends by level.
+		"breath.yaml": "name: breath\nkeys: [A2, A4]\nchannels: 2\nhold: 2\ntail: 0.5\nloop: {crossfade: 0.1, length: 0.8}\npartials: [{ratios: [1, 2.41]}, {noise: {low: 1, high: 5, width: 0.5}, pan: -0.3, envelope: {attack: 0.05, decay: 0.2, sustain: 0.4, release: 0.3}}]\n",
+		"gust.yaml":   "name: gust\nkeys: [C4]\nhold: 0.6\ntail: auto\npartials: [{noise: {low: 400 Hz, high: 3000 Hz, slope: -3}, envelope: {attack: 0.01, decay: 0.4, sustain: 0, release: 0.2}}]\n",
 	}
 	dir := t.TempDir()
 	// The patches and what they include, not any set rendered beside them.
@@ -545,6 +551,10 @@ func TestCheckPlansWhatRenderComputes(t *testing.T) {
 				Nominal  int64  `json:"nominal"`
 				Counts   string `json:"counts"`
 			} `json:"partial_samples"`
+			Noise *struct {
+				Computed int64 `json:"computed"`
+				Nominal  int64 `json:"nominal"`
+			} `json:"noise_samples"`
 		} `json:"result"`
 	}
 	for _, r := range runs {
@@ -566,6 +576,12 @@ func TestCheckPlansWhatRenderComputes(t *testing.T) {
 			p, g := planned.Result, rendered.Result
 			if p.Work.Computed != g.Work.Computed || p.Work.Nominal != g.Work.Nominal {
 				t.Errorf("partial-samples: check plans %d of %d nominal, render computed %d of %d", p.Work.Computed, p.Work.Nominal, g.Work.Computed, g.Work.Nominal)
+			}
+			switch noise := strings.Contains(r.file, "fog") || strings.Contains(r.file, "breath") || strings.Contains(r.file, "gust"); {
+			case noise != (p.Noise != nil) || noise != (g.Noise != nil):
+				t.Errorf("noise work: check plans %v, render reports %v; want them for a patch with noise bands only", p.Noise, g.Noise)
+			case noise && *p.Noise != *g.Noise:
+				t.Errorf("noise-band samples: check plans %+v, render added %+v", *p.Noise, *g.Noise)
 			}
 			if p.Work.Counts == "" || g.Work.Counts == "" {
 				t.Errorf("check or render does not say what its partial-samples count")

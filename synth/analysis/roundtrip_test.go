@@ -182,6 +182,7 @@ func TestRoundTrip(t *testing.T) {
 		{file: "attic-harp.yaml", checks: true, why: "the soundboard knock (6 drumhead modes, 50 ms) is shorter than a track may be, so it is dropped, by design"},
 		{file: "dust-choir.yaml", why: "three unison voices 7 cents apart, vibrato, drift and a pitch scoop: moving, unresolvable partials the analysis does not model"},
 		{file: "felt-bars.yaml", checks: true},
+		{file: "fog-flute.yaml", why: "its noise bands (breath, chiff, air) are not partials: the analysis takes peaks of the noise for partials and loses the harmonics inside the breath band; it does not yet write a residual as noise bands"},
 		{file: "harbor-bells.yaml", checks: true},
 		{file: "hollow-lead.yaml", checks: true, sums: true, why: "harmonics 3 to 41 are two groups' partials summed: breakpoints whose peak, a spike narrower than a frame, reads low"},
 		{file: "lantern-comb.yaml", checks: true},

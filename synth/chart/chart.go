@@ -79,8 +79,8 @@ func Write(w io.Writer, n *patch.Note, opts Options) error {
 	if width < 200 || height < 300 || width > 10000 || height > 10000 {
 		return fmt.Errorf("chart: a picture of %d × %d pixels is not drawable; use 200..10000 wide and 300..10000 high", width, height)
 	}
-	if len(n.Partials) == 0 {
-		return fmt.Errorf("chart: the note at key %s has no partials below the band limit", patch.NoteName(n.Key))
+	if len(n.Partials) == 0 && len(n.Noise) == 0 {
+		return fmt.Errorf("chart: the note at key %s has no partials or noise bands below the band limit", patch.NoteName(n.Key))
 	}
 	gain := opts.Gain
 	if gain == 0 {
@@ -102,15 +102,32 @@ func Write(w io.Writer, n *patch.Note, opts Options) error {
 func decibels(a float64) float64 { return max(floorDB, 20*math.Log10(math.Abs(a))) }
 
 // spectrum draws each partial as a stem at its frequency, its level in
-// dBFS, on a log frequency axis labelled as people read frequency.
+// dBFS, and each noise band as a shaded region from its low edge to its
+// high one (or the band limit), on a log frequency axis labelled as
+// people read frequency.
 func spectrum(n *patch.Note, gain float64) *plot.Plot {
 	p := plot.New()
 	p.Title.Text = fmt.Sprintf("%s (%.2f Hz), velocity %d: %d partials, %d faded and %d dropped by the band limit",
 		patch.NoteName(n.Key), n.F0, n.Velocity, len(n.Partials), n.Faded, n.Dropped)
+	if len(n.Noise)+n.NoiseDropped > 0 {
+		p.Title.Text += fmt.Sprintf("; %d noise bands, shaded", len(n.Noise))
+	}
 	p.X.Label.Text = "frequency (Hz)"
 	p.Y.Label.Text = "level (dBFS)"
 	p.X.Scale, p.X.Tick.Marker = plot.LogScale{}, FrequencyTicks{}
 	lowest, highest, loudest := math.Inf(1), 0.0, float64(floorDB)
+	for i := range n.Noise {
+		b := &n.Noise[i]
+		outline := bandOutline(b, gain)
+		shade, _ := plotter.NewPolygon(outline)
+		shade.Color = bandShade
+		shade.LineStyle.Color = bandEdge
+		p.Add(shade)
+		lowest, highest = min(lowest, b.Low), max(highest, min(b.High, b.Limit))
+		for _, pt := range outline {
+			loudest = max(loudest, pt.Y)
+		}
+	}
 	points := make(plotter.XYs, len(n.Partials))
 	for i, part := range n.Partials {
 		points[i] = plotter.XY{X: part.Hz, Y: decibels(part.Amplitude * gain)}
@@ -125,6 +142,28 @@ func spectrum(n *patch.Note, gain float64) *plot.Plot {
 	p.X.Min, p.X.Max = lowest/1.2, highest*1.2
 	p.Y.Min, p.Y.Max = floorDB, headroom(loudest)
 	return p
+}
+
+// bandSteps is how many points the top of a band's outline is drawn
+// through.
+const bandSteps = 64
+
+// bandOutline is the region a noise band is drawn as: from its low edge
+// to its high one or the band limit, from the bottom of the panel up to
+// the level of a sine of the band's power (a band at amplitude A has a
+// sine's RMS, A/√2) at the band's centre, tilted by its slope in dB per
+// octave and shaped as the band limit's fade and the body shape the
+// band.
+func bandOutline(b *patch.NoiseBand, gain float64) plotter.XYs {
+	low, high := b.Low, min(b.High, b.Limit)
+	centre := math.Sqrt(b.Low * b.High)
+	outline := plotter.XYs{{X: low, Y: floorDB}}
+	for i := range bandSteps + 1 {
+		f := low * math.Pow(high/low, float64(i)/bandSteps)
+		level := decibels(b.Amplitude*gain*b.Gain(f)) + b.Slope*math.Log2(f/centre)
+		outline = append(outline, plotter.XY{X: f, Y: max(floorDB, level)})
+	}
+	return append(outline, plotter.XY{X: high, Y: floorDB})
 }
 
 // headroom is the top of a level axis: 6 dB above the highest level,
@@ -148,37 +187,48 @@ func markers(n *patch.Note, loop synth.Loop, looped bool) []marker {
 	return list
 }
 
-// envelopes draws the level of the loudest partials over the file's
-// length, in dBFS, with the markers as labelled vertical lines.
+// shaped is a partial or a noise band as the envelope panel draws it.
+type shaped struct {
+	label     string
+	amplitude float64
+	envelope  patch.Envelope
+}
+
+// envelopes draws the level of the loudest partials and noise bands over
+// the file's length, in dBFS, with the markers as labelled vertical
+// lines; a band's level is a sine's of the same power.
 func envelopes(n *patch.Note, gain float64, marks []marker) *plot.Plot {
 	p := plot.New()
 	p.Title.Text = "envelopes of the loudest partials"
+	if len(n.Noise) > 0 {
+		p.Title.Text = "envelopes of the loudest partials and noise bands"
+	}
 	p.X.Label.Text = "time (s)"
 	p.Y.Label.Text = "level (dBFS)"
-	order := make([]int, len(n.Partials))
-	for i := range order {
-		order[i] = i
+	var all []shaped
+	for _, part := range n.Partials {
+		all = append(all, shaped{fmt.Sprintf("%.1f Hz", part.Hz), part.Amplitude, part.Envelope})
 	}
-	sort.SliceStable(order, func(a, b int) bool {
-		return math.Abs(n.Partials[order[a]].Amplitude) > math.Abs(n.Partials[order[b]].Amplitude)
-	})
+	for _, b := range n.Noise {
+		all = append(all, shaped{fmt.Sprintf("noise %.0f–%.0f Hz", b.Low, min(b.High, b.Limit)), b.Amplitude, b.Envelope})
+	}
+	sort.SliceStable(all, func(a, b int) bool { return math.Abs(all[a].amplitude) > math.Abs(all[b].amplitude) })
 	rate := float64(n.SampleRate)
 	length, off := float64(n.Frames)/rate, float64(n.NoteOff)/rate
 	const steps = 400
 	loudest := float64(floorDB)
-	for rank, i := range order[:min(envelopeLines, len(order))] {
-		part := n.Partials[i]
+	for rank, sh := range all[:min(envelopeLines, len(all))] {
 		line := make(plotter.XYs, steps+1)
 		for s := range line {
 			t := length * float64(s) / steps
-			line[s] = plotter.XY{X: t, Y: decibels(part.Amplitude * gain * synth.At(part.Envelope, t, off))}
+			line[s] = plotter.XY{X: t, Y: decibels(sh.amplitude * gain * synth.At(sh.envelope, t, off))}
 			loudest = max(loudest, line[s].Y)
 		}
 		l, _ := plotter.NewLine(line)
 		l.Color = palette[rank%len(palette)]
 		l.Width = vg.Points(1.5)
 		p.Add(l)
-		p.Legend.Add(fmt.Sprintf("%.1f Hz", part.Hz), l)
+		p.Legend.Add(sh.label, l)
 	}
 	p.Legend.Top = true
 	p.Legend.Left = true
@@ -217,6 +267,9 @@ func period(n *patch.Note, gain float64, loop synth.Loop) *plot.Plot {
 	for _, part := range n.Partials {
 		settled = max(settled, part.Envelope.Settled())
 	}
+	for _, b := range n.Noise {
+		settled = max(settled, b.Envelope.Settled())
+	}
 	start := max(0, min(int(settled*rate), n.NoteOff-frames, n.Frames-frames))
 	p := plot.New()
 	p.Title.Text = fmt.Sprintf("one period of the waveform from %.3f s; the file peaks at %.1f dBFS", float64(start)/rate, 20*math.Log10(peak))
@@ -246,11 +299,14 @@ func period(n *patch.Note, gain float64, loop synth.Loop) *plot.Plot {
 	return p
 }
 
-// plotterGrey draws the spectrum's stems, markerGrey the envelope panel's
-// markers, palette the envelope lines and the waveform's channels.
+// plotterGrey draws the spectrum's stems, bandShade and bandEdge its noise
+// bands, markerGrey the envelope panel's markers, palette the envelope
+// lines and the waveform's channels.
 var (
 	plotterGrey = color.Gray{Y: 160}
 	markerGrey  = color.Gray{Y: 90}
+	bandShade   = color.NRGBA{R: 0x2e, G: 0x8b, B: 0x57, A: 0x50}
+	bandEdge    = color.NRGBA{R: 0x2e, G: 0x8b, B: 0x57, A: 0xc0}
 	palette     = []color.Color{
 		color.RGBA{R: 0x1f, G: 0x5a, B: 0x96, A: 0xff},
 		color.RGBA{R: 0xc0, G: 0x50, B: 0x1a, A: 0xff},

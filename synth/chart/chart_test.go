@@ -12,12 +12,13 @@ import (
 
 // TestWriteDecodes: the picture is a PNG that Go's own decoder reads
 // (image/png), of the size asked for, with ink on it, for a plain mono
-// note and a looped stereo one at several sizes; sizes that cannot be
-// drawn are refused.
+// note, a looped stereo one and one of noise alone at several sizes;
+// sizes that cannot be drawn are refused.
 func TestWriteDecodes(t *testing.T) {
 	patches := []string{
 		"name: chart\nkeys: [A3]\nhold: 0.5\ntail: 0.3\npartials:\n  - {harmonics: 12, amplitude: \"1/n\", envelope: {attack: 0.01, decay: \"0.3/n\", sustain: 0.4, release: 0.2}}\n",
 		"name: chart\nkeys: [C5]\nchannels: 2\nhold: 1\ntail: 0.3\nloop: {crossfade: 0.05, length: 0.4}\npartials:\n  - {ratios: [1, 2.76, 5.4], pan: {rule: alternate}, envelope: {attack: 0.05, release: 0.2}}\n",
+		"name: chart\nkeys: [C3]\nhold: 0.5\ntail: 0.3\npartials:\n  - {noise: {low: 2, high: 40, slope: -3}, envelope: {attack: 0.01, decay: 0.2, sustain: 0.3, release: 0.2}}\n",
 	}
 	sizes := [][2]int{{800, 1000}, {1200, 1500}, {300, 400}}
 	for i, src := range patches {

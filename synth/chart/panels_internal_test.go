@@ -93,3 +93,45 @@ func TestEnvelopeMarkers(t *testing.T) {
 		t.Errorf("axes %q %g..%g, %q", p.Y.Label.Text, p.Y.Min, p.Y.Max, p.X.Label.Text)
 	}
 }
+
+// TestBandOutline: a noise band is drawn from its low edge to its high
+// one, or to the band limit, which cuts it off; its top is the level of a
+// sine of its power at its centre (20·log10 of its amplitude times the
+// levelling gain), tilted by its slope in dB per octave; the spectrum
+// panel's axes take it in, also for a note of noise alone.
+func TestBandOutline(t *testing.T) {
+	plan := expand(t, "name: panels\nkeys: [A3]\npartials:\n  - {noise: {low: 500 Hz, high: 8000 Hz, slope: -3}, amplitude: 0.1}\n  - {noise: {low: 15000 Hz, high: 30000 Hz}, amplitude: 0.01}\n")
+	n := &plan.Notes[0]
+	if len(n.Partials) != 0 || len(n.Noise) != 2 {
+		t.Fatalf("note %+v", n)
+	}
+	top := func(outline []struct{ X, Y float64 }, hz float64) float64 {
+		for _, pt := range outline {
+			if math.Abs(pt.X-hz) < 1e-9*hz && pt.Y > floorDB {
+				return pt.Y
+			}
+		}
+		return math.NaN()
+	}
+	var outline []struct{ X, Y float64 }
+	for _, pt := range bandOutline(&n.Noise[0], 0.5) {
+		outline = append(outline, struct{ X, Y float64 }{pt.X, pt.Y})
+	}
+	centre := 20 * math.Log10(0.1*0.5) // the centre is 2000 Hz, two octaves above 500 and below 8000
+	for _, c := range [][2]float64{{500, centre + 6}, {2000, centre}, {8000, centre - 6}} {
+		if got := top(outline, c[0]); math.Abs(got-c[1]) > 1e-9 {
+			t.Errorf("top at %g Hz: %.4f dBFS, want %.4f", c[0], got, c[1])
+		}
+	}
+	if first, last := outline[0], outline[len(outline)-1]; first.X != 500 || last.X != 8000 || first.Y != floorDB || last.Y != floorDB {
+		t.Errorf("outline runs from %v to %v; want from 500 to 8000 Hz, closed at the floor", first, last)
+	}
+	clipped := bandOutline(&n.Noise[1], 1)
+	if last := clipped[len(clipped)-1]; last.X != 21600 {
+		t.Errorf("the clipped band's outline ends at %g Hz, want the band limit, 21600", last.X)
+	}
+	p := spectrum(n, 0.5)
+	if p.X.Min > 500 || p.X.Max < 21600 || !strings.Contains(p.Title.Text, "2 noise bands") {
+		t.Errorf("spectrum axis %g..%g Hz, title %q", p.X.Min, p.X.Max, p.Title.Text)
+	}
+}

@@ -90,7 +90,7 @@ func (s Stage) String() string {
 type Result struct {
 	Dir      string
 	Manifest *manifest.Manifest
-	// Stats is the oscillator work of one render of every note rendered;
+	// Stats is the work of one render of every note rendered;
 	// Again that of the notes rendered a second time (see Rerendered).
 	Stats, Again synth.Stats
 	// Rerendered counts the notes rendered a second time because their
@@ -121,9 +121,11 @@ var spillPartials = func() int64 {
 }
 
 // dense reports whether a note whose render did the work stats is kept on
-// disk between the passes.
+// disk between the passes. A note with noise bands always is: making a
+// band's noise costs some 20 ns a sample of it (its transform, measured
+// by synth's BenchmarkNoise), several times writing and reading it back.
 func dense(stats synth.Stats, n *patch.Note) bool {
-	return stats.PartialSamples >= spillPartials()*int64(n.Frames)
+	return stats.NoiseSamples > 0 || stats.PartialSamples >= spillPartials()*int64(n.Frames)
 }
 
 // Build renders plan into plan.OutputDir.
@@ -227,8 +229,7 @@ func Build(ctx context.Context, plan *patch.Plan, opts Options) (*Result, error)
 		return nil, err
 	}
 	for i, s := range b.stats {
-		res.Stats.PartialSamples += s.PartialSamples
-		res.Stats.Nominal += s.Nominal
+		res.Stats.Add(s)
 		if b.rendered[i] {
 			res.Rendered++
 		}
@@ -388,8 +389,7 @@ func (b *build) twoPasses(ctx context.Context, res *Result) error {
 	for i, r := range rerendered {
 		if r {
 			res.Rerendered++
-			res.Again.PartialSamples += again[i].PartialSamples
-			res.Again.Nominal += again[i].Nominal
+			res.Again.Add(again[i])
 		}
 	}
 	return kept.remove()
@@ -635,9 +635,7 @@ func writeMapping(path string, plan *patch.Plan, loops []synth.Loop, looped []bo
 		regions = append(regions, noteRegions(&n, plan.Tuning, mapping.Region{Sample: n.File, Root: n.Key, LowKey: n.KeyLow, HighKey: n.KeyHigh, LowVel: n.VelLow, HighVel: n.VelHigh,
 			Looped: looped[i], LoopStart: loops[i].Start, LoopEnd: loops[i].End,
 			SeqPosition: n.Variation + 1, SeqLength: n.Variations})...)
-		for _, p := range n.Partials {
-			release = max(release, p.Envelope.Release)
-		}
+		release = max(release, n.LongestRelease())
 	}
 	return writeAtomically(path, func(w io.Writer) error {
 		return mapping.WriteSFZ(w, regions, mapping.Options{Title: plan.Name + ", rendered by sinter", Release: release})

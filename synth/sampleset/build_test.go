@@ -462,37 +462,106 @@ func TestVerifyFindsCorruption(t *testing.T) {
 	}
 }
 
+// noiseSource is a small stereo set with round robins whose notes hold
+// noise bands beside their partials, looped by crossfade.
+const noiseSource = `name: breath
+sample_rate: 22050
+channels: 2
+keys: [55, 67]
+velocities: [80, 127]
+round_robin: 2
+hold: 0.8
+tail: 0.2
+loop: {length: 0.3, crossfade: 0.03}
+partials:
+  - ratios: [1, 2.76]
+    amplitude: "0.2 * vel"
+    envelope: {attack: 0.01, decay: 0.05, sustain: 0.7, release: 0.08}
+  - noise: {low: 1.5, high: 6, slope: -3, width: 0.7}
+    amplitude: -18 dB
+    pan: 0.3
+    envelope: {attack: 0.04, decay: 0.1, sustain: 0.5, release: 0.1}
+  - noise: {low: 2000 Hz, high: 9000 Hz}
+    amplitude: -30 dB
+`
+
 // TestBuildJobsBitIdentical: the number of jobs changes nothing in the
-// output, byte for byte.
+// output, byte for byte, for a set of partials and one with noise bands.
 func TestBuildJobsBitIdentical(t *testing.T) {
 	root := t.TempDir()
-	src := patchSource(24, 2, "")
-	var first map[string]string
-	for _, jobs := range []int{1, 2, 8} {
-		dir := filepath.Join(root, strconv.Itoa(jobs))
-		build(t, newPlan(t, src, dir), jobs)
-		set := snapshot(t, dir)
-		if len(set) == 0 {
-			t.Fatal("empty set")
+	for si, src := range []string{patchSource(24, 2, ""), noiseSource} {
+		var first map[string]string
+		for _, jobs := range []int{1, 2, 8} {
+			dir := filepath.Join(root, strconv.Itoa(si), strconv.Itoa(jobs))
+			build(t, newPlan(t, src, dir), jobs)
+			set := snapshot(t, dir)
+			if len(set) == 0 {
+				t.Fatal("empty set")
+			}
+			if first == nil {
+				first = set
+				continue
+			}
+			if len(set) != len(first) {
+				t.Fatalf("Jobs 1 wrote %d files, Jobs %d wrote %d", len(first), jobs, len(set))
+			}
+			for name, sum := range first {
+				if set[name] != sum {
+					t.Errorf("%s differs between Jobs 1 and Jobs %d", name, jobs)
+				}
+			}
 		}
-		if first == nil {
-			first = set
+	}
+}
+
+// TestNoiseSetVerifies builds the noise set, levelled as a whole, and
+// holds it to what a looped set must be: it verifies against its manifest
+// and mapping, and every loop's seam steps no further than its inside does
+// (seam_ratio ≤ 1), read again from the files with go-audio/wav.
+func TestNoiseSetVerifies(t *testing.T) {
+	dir := filepath.Join(t.TempDir(), "set")
+	build(t, newPlan(t, noiseSource, dir), 2)
+	problems, err := sampleset.Verify(dir)
+	if err != nil || len(problems) > 0 {
+		t.Fatalf("Verify: %v %v", err, problems)
+	}
+	data, err := os.ReadFile(filepath.Join(dir, "manifest.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var m struct {
+		Files []struct {
+			Path   string `json:"path"`
+			Frames int    `json:"frames"`
+			Loop   *struct {
+				Start     int     `json:"start"`
+				End       int     `json:"end"`
+				SeamRatio float64 `json:"seam_ratio"`
+			} `json:"loop"`
+		} `json:"files"`
+	}
+	if err := json.Unmarshal(data, &m); err != nil {
+		t.Fatal(err)
+	}
+	for _, f := range m.Files {
+		if f.Loop == nil || f.Loop.SeamRatio > 1 {
+			t.Errorf("%s: loop %+v; want one whose seam ratio is at most 1", f.Path, f.Loop)
 			continue
 		}
-		if len(set) != len(first) {
-			t.Fatalf("Jobs 1 wrote %d files, Jobs %d wrote %d", len(first), jobs, len(set))
+		wav, err := os.ReadFile(filepath.Join(dir, f.Path))
+		if err != nil {
+			t.Fatal(err)
 		}
-		for name, sum := range first {
-			if set[name] != sum {
-				t.Errorf("%s differs between Jobs 1 and Jobs %d", name, jobs)
-			}
+		x := decode(t, wav, 2*f.Frames).samples
+		if seam, inside := synth.SeamStep(x, 2, synth.Loop{Start: f.Loop.Start, End: f.Loop.End}); seam > inside {
+			t.Errorf("%s: read back, the seam steps %.4g, the loop's inside at most %.4g", f.Path, seam, inside)
 		}
 	}
 }
 
 // TestBuildEveryKernelBitIdentical: every set of kernels this processor
 // runs writes the same files, byte for byte, for a stereo, dithered set
-// with moving partials, levelled by true peak and by loudness, so the
+// with moving partials and a noise band, levelled by true peak and by loudness, so the
 // meters' kernels decide the gains too.
 func TestBuildEveryKernelBitIdentical(t *testing.T) {
 	root := t.TempDir()
@@ -513,6 +582,9 @@ partials:
   - ratios: [2.76, 5.4]
     vibrato: {rate: 5, depth: 30}
     envelope: {attack: 0.05, decay: 0.2, sustain: 0.5, release: 0.1}
+  - noise: {low: 1, high: 8, slope: -3, width: 0.6}
+    amplitude: -20 dB
+    pan: -0.4
 `
 		var first map[string]string
 		for _, isa := range kernel.Supported() {

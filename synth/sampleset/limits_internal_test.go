@@ -66,11 +66,27 @@ partials:
 
 // TestSpillEstimateIsWhatIsKept: the bytes the estimate gives for the
 // notes kept between the passes are the bytes the first pass keeps, for
-// every levelling scope (none without two passes).
+// every levelling scope (none without two passes), for dense partials and
+// for a few partials with a noise band (which are kept for the noise).
 func TestSpillEstimateIsWhatIsKept(t *testing.T) {
+	groups := map[string]string{
+		"partials": "  - harmonics: 96\n    amplitude: \"vel / n\"\n    envelope: {attack: 0.01, decay: \"0.05 * n\", sustain: 0.3, release: 0.1}\n",
+		"noise":    "  - harmonics: 2\n  - noise: {low: 2, high: 3}\n",
+	}
 	for _, scope := range []string{"set", "key", "file"} {
-		t.Run(scope, func(t *testing.T) {
-			plan := expand(t, fmt.Sprintf(`name: spill
+		for name, group := range groups {
+			t.Run(scope+"/"+name, func(t *testing.T) {
+				spillCase(t, scope, name, group)
+			})
+		}
+	}
+}
+
+// spillCase builds the set of one scope and group for
+// TestSpillEstimateIsWhatIsKept and compares the bytes kept with the
+// estimate.
+func spillCase(t *testing.T, scope, name, group string) {
+	plan := expand(t, fmt.Sprintf(`name: spill
 sample_rate: 22050
 keys: [24, 36, 60, 108]
 velocities: [60, 120]
@@ -78,36 +94,31 @@ hold: 0.3
 tail: 0.1
 normalize: {peak: -1 dBFS, scope: %s}
 partials:
-  - harmonics: 96
-    amplitude: "vel / n"
-    envelope: {attack: 0.01, decay: "0.05 * n", sustain: 0.3, release: 0.1}
-`, scope), filepath.Join(t.TempDir(), "set"))
-			var kept int64 = -1
-			// One job, so the hook runs in one goroutine at a time.
-			opts := Options{Jobs: 1, Version: "test", Reached: func(s Stage) {
-				// The first file written: the first pass is over and
-				// its spill files are complete.
-				if s != Wrote || kept >= 0 {
-					return
-				}
-				spills, _ := filepath.Glob(filepath.Join(filepath.Dir(plan.OutputDir), ".set.staging-*", ".spill-*.f64"))
-				kept = 0
-				for _, f := range spills {
-					if info, err := os.Stat(f); err == nil {
-						kept += info.Size()
-					}
-				}
-			}}
-			if _, err := Build(context.Background(), plan, opts); err != nil {
-				t.Fatal(err)
+%s`, scope, group), filepath.Join(t.TempDir(), "set"))
+	var kept int64 = -1
+	// One job, so the hook runs in one goroutine at a time.
+	opts := Options{Jobs: 1, Version: "test", Reached: func(s Stage) {
+		// The first file written: the first pass is over and
+		// its spill files are complete.
+		if s != Wrote || kept >= 0 {
+			return
+		}
+		spills, _ := filepath.Glob(filepath.Join(filepath.Dir(plan.OutputDir), ".set.staging-*", ".spill-*.f64"))
+		kept = 0
+		for _, f := range spills {
+			if info, err := os.Stat(f); err == nil {
+				kept += info.Size()
 			}
-			est := EstimatePlan(plan)
-			if kept != est.SpillBytes {
-				t.Errorf("the first pass kept %d bytes; the estimate says %d", kept, est.SpillBytes)
-			}
-			if (scope == "file") != (est.SpillBytes == 0) {
-				t.Errorf("estimate %d bytes kept with scope %s; want none with a gain per file (one pass) only", est.SpillBytes, scope)
-			}
-		})
+		}
+	}}
+	if _, err := Build(context.Background(), plan, opts); err != nil {
+		t.Fatal(err)
+	}
+	est := EstimatePlan(plan)
+	if kept != est.SpillBytes {
+		t.Errorf("the first pass kept %d bytes; the estimate says %d", kept, est.SpillBytes)
+	}
+	if (scope == "file") != (est.SpillBytes == 0) {
+		t.Errorf("%s: estimate %d bytes kept with scope %s; want none with a gain per file (one pass) only", name, est.SpillBytes, scope)
 	}
 }
