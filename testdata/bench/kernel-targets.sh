@@ -6,7 +6,8 @@
 # usage: go test -bench . ./synth/... | kernel-targets.sh SINTER_BINARY
 set -euo pipefail
 kernel=$("$1" --version | sed -n 's/.*(\([a-z0-9]*\) kernel.*/\1/p')
-tee /dev/stderr | awk -v k="$kernel" '
+awk -v k="$kernel" '
+	{ print }
 	function check(name, target, label) {
 		if (!(name in rate)) { printf "%s: no figure for the %s kernel\n", label, k; return }
 		printf "%s, %s kernel: %.2f G partial-samples/s (target %g G: %s)\n", label, k, rate[name] / 1e9, target / 1e9, (rate[name] >= target ? "target met" : "BELOW TARGET")
@@ -17,4 +18,4 @@ tee /dev/stderr | awk -v k="$kernel" '
 	END {
 		check("BenchmarkRender/" k, 3e9, "still partials")
 		check("BenchmarkRenderVibrato/" k, 1e9, "moving partials")
-	}' 2>&1
+	}'
