@@ -122,12 +122,7 @@ func addChirpsGo(block *[BlockFrames]float64, jobs []ChirpJob) {
 		job := &jobs[i]
 		for m := range SpansPerBlock {
 			phase, step, growth := chirpLanes(job, m)
-			lo, hi := job.From[m], job.To[m]
-			var g [Lanes]float64
-			for l := range Lanes {
-				g[l] = math.FMA(lo, rampFrom[l], hi*rampTo[l])
-			}
-			d := (hi - lo) * rampStep
+			g, d := ramp(job.From[m], job.To[m])
 			span := block[m*ControlFrames : (m+1)*ControlFrames]
 			var sin [Lanes]float64
 			for v := 0; v < ControlFrames; v += Lanes {

@@ -58,6 +58,16 @@ var rampFrom, rampTo = func() (from, to [Lanes]float64) {
 
 const rampStep = float64(Lanes) / ControlFrames
 
+// ramp returns the lanes' gains at the start of a span whose gain runs
+// from lo to hi, and what a vector step adds to each: the arithmetic the
+// vector forms do for every span, lane for lane.
+func ramp(lo, hi float64) (gain [Lanes]float64, step float64) {
+	for l := range Lanes {
+		gain[l] = math.FMA(lo, rampFrom[l], hi*rampTo[l])
+	}
+	return gain, (hi - lo) * rampStep
+}
+
 // AddResonators adds one block of each job's partial into block, in the
 // order of jobs. Every set of kernels gives the same bits wherever the
 // processor has fused multiply-add (math.FMA rounds as the instruction
@@ -86,12 +96,7 @@ func addResonatorsGo(block *[BlockFrames]float64, jobs []ResonatorJob, tables []
 			s[l] = math.FMA(job.Sin, t.StepCos[l], job.Cos*t.StepSin[l])
 		}
 		for m := range SpansPerBlock {
-			lo, hi := job.From[m], job.To[m]
-			var g [Lanes]float64
-			for l := range Lanes {
-				g[l] = math.FMA(lo, rampFrom[l], hi*rampTo[l])
-			}
-			d := (hi - lo) * rampStep
+			g, d := ramp(job.From[m], job.To[m])
 			span := block[m*ControlFrames : (m+1)*ControlFrames]
 			for v := 0; v < ControlFrames; v += Lanes {
 				out := (*[Lanes]float64)(span[v : v+Lanes])
